@@ -1,0 +1,186 @@
+package sim
+
+import "math"
+
+// Modelling constants. Where a value is a modelling choice rather than a
+// published figure, the comment says so.
+const (
+	// outgassingDoublingK: outgassing doubles for every 15 K the wall is
+	// above ambient. From memory (rule of thumb for water-dominated loads of
+	// unbaked metal walls); a single Arrhenius law with the 22–25 kcal/mol
+	// desorption energy of water on 304 stainless would be steeper (5–10 K
+	// per doubling), the softer figure stands for a spread of binding energies.
+	outgassingDoublingK = 15.0
+
+	// outgassingMinAge clamps the pumping time in q = Q1h·(3600 s/t)^n so the
+	// load stays finite at the start of a pump-down. Modelling choice: the
+	// load is irrelevant then, the chamber is still near atmosphere.
+	outgassingMinAge = 60.0 // s
+
+	// stepTolerance bounds the relative change of the outgassing load within
+	// one sub-step; the step is exact for the pressure given that load.
+	stepTolerance = 0.005
+
+	// defaultWallTau is the heater/wall lag when Config.WallTau is 0.
+	defaultWallTau = 20 * 60.0 // s
+)
+
+// thermalFactor is how much faster the walls outgas at wallC than at ambientC.
+func thermalFactor(wallC, ambientC float64) float64 {
+	return math.Exp2((wallC - ambientC) / outgassingDoublingK)
+}
+
+// wallAfter solves dT/dt = (target − T)/tau exactly over h seconds.
+func wallAfter(t, target, tau, h float64) float64 {
+	return target + (t-target)*math.Exp(-h/tau)
+}
+
+// outgassingRate is q = q1h·f·(3600 s/age)^n, age clamped at outgassingMinAge.
+func outgassingRate(q1h, n, f, age float64) float64 {
+	if q1h == 0 {
+		return 0
+	}
+	return q1h * f * math.Pow(3600/math.Max(age, outgassingMinAge), n)
+}
+
+// pumping holds the pump stages and the pressures where the pumping term
+// P(p) = Σ S_i·max(0, p − u_i) changes form: each stage's ultimate and the
+// crossover. Between two such boundaries P is linear in p, so with a constant
+// gas load dp/dt = (Q − P(p))/V is solved exactly by an exponential.
+type pumping struct {
+	rough, high Pump
+	crossover   float64
+	edges       [5]float64 // sorted: 0, boundaries…, +Inf
+	nEdges      int
+}
+
+func newPumping(rough, high Pump, crossover float64) pumping {
+	pm := pumping{rough: rough, high: high, crossover: crossover}
+	pm.edges[0] = 0
+	pm.nEdges = 1
+	add := func(b float64) {
+		if b > 0 && !math.IsInf(b, 1) {
+			pm.edges[pm.nEdges] = b
+			pm.nEdges++
+		}
+	}
+	if rough.Speed > 0 {
+		add(rough.Ultimate)
+	}
+	if high.Speed > 0 {
+		add(high.Ultimate)
+		add(crossover)
+	}
+	pm.edges[pm.nEdges] = math.Inf(1)
+	pm.nEdges++
+	e := pm.edges[:pm.nEdges]
+	for i := 1; i < len(e); i++ { // insertion sort of at most five values
+		for j := i; j > 0 && e[j] < e[j-1]; j-- {
+			e[j], e[j-1] = e[j-1], e[j]
+		}
+	}
+	n := 1
+	for _, b := range e[1:] { // drop repeated boundaries
+		if b != pm.edges[n-1] {
+			pm.edges[n] = b
+			n++
+		}
+	}
+	pm.nEdges = n
+	return pm
+}
+
+// coeffs returns S and U of the linear form P(p) = S·p − U valid around m.
+func (pm *pumping) coeffs(m float64) (s, u float64) {
+	if pm.rough.Speed > 0 && m > pm.rough.Ultimate {
+		s += pm.rough.Speed
+		u += pm.rough.Speed * pm.rough.Ultimate
+	}
+	if pm.high.Speed > 0 && m < pm.crossover && m > pm.high.Ultimate {
+		s += pm.high.Speed
+		u += pm.high.Speed * pm.high.Ultimate
+	}
+	return s, u
+}
+
+// speed is the effective pumping speed P(p)/p at pressure p, in m³/s.
+func (pm *pumping) speed(p float64) float64 {
+	if p <= 0 {
+		return 0
+	}
+	s, u := pm.coeffs(p)
+	return math.Max(0, s-u/p)
+}
+
+func interior(lo, hi float64) float64 {
+	if math.IsInf(hi, 1) {
+		return 2*lo + 1
+	}
+	return (lo + hi) / 2
+}
+
+// interval finds the linear piece the trajectory from p occupies under load
+// q: the one containing p, or, when p sits on a boundary, the one on the side
+// it moves toward. ok is false when p is at rest.
+func (pm *pumping) interval(p, q float64) (lo, hi float64, ok bool) {
+	e := pm.edges[:pm.nEdges]
+	for i := 0; i+1 < len(e); i++ {
+		if p > e[i] && p < e[i+1] {
+			return e[i], e[i+1], true
+		}
+		if p != e[i] {
+			continue
+		}
+		if s, u := pm.coeffs(interior(e[i], e[i+1])); q+u-s*p > 0 {
+			return e[i], e[i+1], true
+		}
+		if i > 0 {
+			if s, u := pm.coeffs(interior(e[i-1], e[i])); q+u-s*p < 0 {
+				return e[i-1], e[i], true
+			}
+		}
+		return 0, 0, false
+	}
+	return 0, 0, false
+}
+
+// step advances p by h seconds under a constant load q (Pa·m³/s) in volume
+// vol (m³), exactly: on each linear piece p(t) = p* + (p − p*)·exp(−S·t/V)
+// with p* = (q + U)/S, and where the trajectory reaches a boundary the
+// remaining time continues on the next piece. The result lies between p and
+// the equilibrium, so it is never negative.
+func (pm *pumping) step(p, q, vol, h float64) float64 {
+	for range 2 * len(pm.edges) { // motion is monotone: one crossing per boundary at most
+		lo, hi, ok := pm.interval(p, q)
+		if !ok {
+			return p
+		}
+		s, u := pm.coeffs(interior(lo, hi))
+		if s == 0 { // sealed or unpumped: a linear rise at q/V
+			rate := q / vol
+			if !math.IsInf(hi, 1) && p+rate*h >= hi {
+				h -= (hi - p) / rate
+				p = hi
+				continue
+			}
+			return p + rate*h
+		}
+		eq, k := (q+u)/s, s/vol
+		edge := math.NaN()
+		switch {
+		case eq > hi:
+			edge = hi
+		case eq < lo:
+			edge = lo
+		}
+		if !math.IsNaN(edge) {
+			if tb := math.Log((p-eq)/(edge-eq)) / k; tb < h {
+				h -= tb
+				p = edge
+				continue
+			}
+		}
+		return eq + (p-eq)*math.Exp(-k*h)
+	}
+	return p
+}
