@@ -8,6 +8,13 @@ import (
 // finish fills in what every model shares: residuals, scatter, valid range
 // and the uncertainty budget.
 func (c *Calibration) finish(opt FitOptions) error {
+	// Evaluate from the stored parameters, so a calibration read back from
+	// JSON gives the very same numbers as the one just fitted.
+	cv, err := buildCurve(c.Model, c.Parameters, c.Knots)
+	if err != nil {
+		return err
+	}
+	c.curve = cv
 	f := &c.Fit
 	n, m := len(c.Points), f.Parameters
 	f.Points = n

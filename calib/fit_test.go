@@ -87,9 +87,9 @@ func TestFitHeatLossRecoversNoisyParameters(t *testing.T) {
 // U = 5.5 V → 31.6228 Torr; and 0.6 V/decade with 6.8 V ⇔ 1 mbar: 5.0 V → 1.000e-3 mbar.
 func TestFitLogLinearPublishedOutputs(t *testing.T) {
 	for _, tc := range []struct {
-		name                  string
+		name                    string
 		perDecade, atUnit, unit float64
-		raw, want             float64
+		raw, want               float64
 	}{
 		{"1V/decade Torr", 1, 4, torr, 5.5, 31.6228 * torr},
 		{"0.6V/decade mbar", 0.6, 6.8, 100, 5.0, 1.000e-3 * 100},
