@@ -158,8 +158,8 @@ func (ch *Chamber) advanceTo(to time.Duration) {
 
 // integrate advances the gas balance and the wall temperature to offset to
 // in sub-steps short enough that the outgassing load changes by at most
-// stepTolerance within each; the load is taken at each sub-step's midpoint
-// and the pressure step is exact for it.
+// stepTolerance within each; within a sub-step the load is taken as linear
+// in time and the pressure step is exact for it.
 func (ch *Chamber) integrate(to time.Duration) {
 	if to <= ch.elapsed {
 		return
@@ -170,11 +170,13 @@ func (ch *Chamber) integrate(to time.Duration) {
 	for rest := (to - ch.elapsed).Seconds(); rest > 0; {
 		h := min(rest, ch.maxStep(target))
 		rest -= h
-		f := thermalFactor(wallAfter(ch.wallC, target, ch.tau, h/2), amb)
-		q := ch.leak + ch.bleed + outgassingRate(q1h, ch.exp, f, ch.age+f*h/2)
-		ch.p = pm.step(ch.p, q, vol, h)
-		ch.age += f * h
-		ch.wallC = wallAfter(ch.wallC, target, ch.tau, h)
+		fMid := thermalFactor(wallAfter(ch.wallC, target, ch.tau, h/2), amb)
+		wallEnd := wallAfter(ch.wallC, target, ch.tau, h)
+		ageEnd := ch.age + fMid*h
+		q0 := outgassingRate(q1h, ch.exp, thermalFactor(ch.wallC, amb), ch.age)
+		q1 := outgassingRate(q1h, ch.exp, thermalFactor(wallEnd, amb), ageEnd)
+		ch.p = pm.step(ch.p, ch.leak+ch.bleed+q0, (q1-q0)/h, vol, h)
+		ch.age, ch.wallC = ageEnd, wallEnd
 		ch.substeps++
 	}
 	ch.elapsed = to

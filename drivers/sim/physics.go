@@ -144,28 +144,45 @@ func (pm *pumping) interval(p, q float64) (lo, hi float64, ok bool) {
 	return 0, 0, false
 }
 
-// step advances p by h seconds under a constant load q (Pa·m³/s) in volume
-// vol (m³), exactly: on each linear piece p(t) = p* + (p − p*)·exp(−S·t/V)
-// with p* = (q + U)/S, and where the trajectory reaches a boundary the
-// remaining time continues on the next piece. The result lies between p and
-// the equilibrium, so it is never negative.
-func (pm *pumping) step(p, q, vol, h float64) float64 {
+// lagWeight is where in a step of x = S·h/V time constants a linearly
+// varying load must be sampled for the constant-load exponential to give the
+// exact end pressure: w = 1/(1 − e^−x) − 1/x, from 1/2 (slow: the midpoint)
+// to 1 (stiff: the pressure tracks the load to the step's end).
+func lagWeight(x float64) float64 {
+	if x < 1e-3 {
+		return 0.5 + x/12
+	}
+	return 1/(-math.Expm1(-x)) - 1/x
+}
+
+// step advances p by h seconds under the load q0 + dq·τ (Pa·m³/s, τ from 0
+// to h) in volume vol (m³). On each linear piece of the pumping term the
+// solution is the exponential p(t) = p* + (p − p*)·exp(−S·t/V), exact for a
+// constant load and, with the load sampled at lagWeight, for a linear one;
+// where the trajectory reaches a boundary the remaining time continues on
+// the next piece. The result lies between p and the equilibrium, so it is
+// never negative.
+func (pm *pumping) step(p, q0, dq, vol, h float64) float64 {
+	tau := 0.0                    // time into the step
 	for range 2 * len(pm.edges) { // motion is monotone: one crossing per boundary at most
-		lo, hi, ok := pm.interval(p, q)
+		rest := h - tau
+		qs := q0 + dq*tau
+		lo, hi, ok := pm.interval(p, qs+dq*rest/2)
 		if !ok {
 			return p
 		}
 		s, u := pm.coeffs(interior(lo, hi))
-		if s == 0 { // sealed or unpumped: a linear rise at q/V
-			rate := q / vol
-			if !math.IsInf(hi, 1) && p+rate*h >= hi {
-				h -= (hi - p) / rate
+		if s == 0 { // sealed or unpumped: a rise at q/V
+			rate := (qs + dq*rest/2) / vol
+			if !math.IsInf(hi, 1) && p+rate*rest >= hi {
+				tau += (hi - p) / rate
 				p = hi
 				continue
 			}
-			return p + rate*h
+			return p + rate*rest
 		}
-		eq, k := (q+u)/s, s/vol
+		k := s / vol
+		eq := (qs + dq*rest*lagWeight(k*rest) + u) / s
 		edge := math.NaN()
 		switch {
 		case eq > hi:
@@ -174,13 +191,13 @@ func (pm *pumping) step(p, q, vol, h float64) float64 {
 			edge = lo
 		}
 		if !math.IsNaN(edge) {
-			if tb := math.Log((p-eq)/(edge-eq)) / k; tb < h {
-				h -= tb
+			if tb := math.Log((p-eq)/(edge-eq)) / k; tb < rest {
+				tau += tb
 				p = edge
 				continue
 			}
 		}
-		return eq + (p-eq)*math.Exp(-k*h)
+		return eq + (p-eq)*math.Exp(-k*rest)
 	}
 	return p
 }
