@@ -1,0 +1,149 @@
+package alerts
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// RiseCSVHeader is the header line of a pressure-rise CSV file.
+const RiseCSVHeader = "time_s,pressure"
+
+// A RiseRecord is a pressure-rise record as read from a file, pressures
+// still in the file's unit.
+type RiseRecord struct {
+	Time     []float64 // seconds
+	Pressure []float64 // the file's unit
+	// Step is the finest reading step written in the file, in the file's
+	// unit (from the digits: "1.23e-3" has a step of 1e-5); 0 when unknown.
+	Step float64
+	// Digits is the most significant digits any pressure was written with
+	// ("0.0120" has 3); 0 when unknown or 10 or more (continuous values).
+	Digits int
+}
+
+// ReadingStep returns the resolution the file's digits show, for a file
+// unit of unit pascals: readings to Digits significant digits, never finer
+// than Step. It is nil when the file shows none.
+func (r RiseRecord) ReadingStep(unit float64) ReadingStep {
+	if r.Step == 0 && r.Digits == 0 {
+		return nil
+	}
+	return DigitsStep(r.Digits, unit, r.Step*unit)
+}
+
+// maxCSVProblems bounds how many bad lines one error lists.
+const maxCSVProblems = 20
+
+// ReadRiseCSV reads a pressure-rise CSV file: a header line
+// "time_s,pressure", then one "time,pressure" pair per line. Blank lines and
+// lines starting with # are ignored, as are spaces around fields and a
+// byte-order mark. Every bad line is reported as name:line with what is
+// expected.
+func ReadRiseCSV(r io.Reader, name string) (RiseRecord, error) {
+	var rec RiseRecord
+	var problems []string
+	sc := bufio.NewScanner(r)
+	sc.Buffer(make([]byte, 0, 64*1024), 1<<20)
+	line, header := 0, false
+	step, digits := math.Inf(1), 0
+	for sc.Scan() {
+		line++
+		text := strings.TrimSpace(strings.TrimPrefix(sc.Text(), "\ufeff"))
+		if text == "" || strings.HasPrefix(text, "#") {
+			continue
+		}
+		if !header {
+			header = true
+			if h := strings.ReplaceAll(strings.ToLower(text), " ", ""); h != RiseCSVHeader {
+				problems = append(problems, fmt.Sprintf("%s:%d: header is %q, want %q", name, line, text, RiseCSVHeader))
+				break
+			}
+			continue
+		}
+		t, p, ps, err := parseRiseLine(text)
+		if err != nil {
+			problems = append(problems, fmt.Sprintf("%s:%d: %v", name, line, err))
+			continue
+		}
+		rec.Time, rec.Pressure = append(rec.Time, t), append(rec.Pressure, p)
+		s, d := decimalStep(ps)
+		if s > 0 && step > 0 {
+			step = min(step, s)
+		} else {
+			step = 0
+		}
+		if d >= 10 || d < 0 || digits < 0 {
+			digits = -1
+		} else {
+			digits = max(digits, d)
+		}
+	}
+	if err := sc.Err(); err != nil {
+		return RiseRecord{}, fmt.Errorf("%s:%d: %w", name, line+1, err)
+	}
+	if !header && len(problems) == 0 {
+		problems = append(problems, fmt.Sprintf("%s: no header line: the first line must be %q", name, RiseCSVHeader))
+	}
+	if len(problems) > 0 {
+		return RiseRecord{}, csvProblems(problems)
+	}
+	if !math.IsInf(step, 1) {
+		rec.Step = step
+	}
+	rec.Digits = max(digits, 0)
+	return rec, nil
+}
+
+func csvProblems(p []string) error {
+	if len(p) > maxCSVProblems {
+		p = append(p[:maxCSVProblems], fmt.Sprintf("... and %d more bad lines", len(p)-maxCSVProblems))
+	}
+	return errors.New(strings.Join(p, "\n"))
+}
+
+// parseRiseLine parses "time,pressure", returning the pressure's text too.
+func parseRiseLine(text string) (t, p float64, ps string, err error) {
+	f := strings.Split(text, ",")
+	if len(f) != 2 {
+		return 0, 0, "", fmt.Errorf("%d fields, want 2 (time_s,pressure)", len(f))
+	}
+	ts, ps := strings.TrimSpace(f[0]), strings.TrimSpace(f[1])
+	t, err = strconv.ParseFloat(ts, 64)
+	if err != nil || !isFinite(t) {
+		return 0, 0, "", fmt.Errorf("time %q is not a number of seconds", ts)
+	}
+	p, err = strconv.ParseFloat(ps, 64)
+	if err != nil || !isFinite(p) {
+		return 0, 0, "", fmt.Errorf("pressure %q is not a number", ps)
+	}
+	return t, p, ps, nil
+}
+
+// decimalStep returns the place value of the last digit written in a
+// decimal number and how many significant digits it has ("0.0120" → 1e-4
+// and 3, "1.23e-3" → 1e-5 and 3, "150" → 1 and 3); a zero has no
+// significant digit. Forms it does not read (hexadecimal) give 0 and −1.
+func decimalStep(s string) (step float64, digits int) {
+	s = strings.TrimLeft(s, "+-")
+	exp := 0
+	if i := strings.IndexAny(s, "eE"); i >= 0 {
+		e, err := strconv.Atoi(s[i+1:])
+		if err != nil {
+			return 0, -1
+		}
+		s, exp = s[:i], e
+	}
+	if s == "" || strings.ContainsFunc(s, func(r rune) bool { return (r < '0' || r > '9') && r != '.' }) {
+		return 0, -1
+	}
+	if i := strings.IndexByte(s, '.'); i >= 0 {
+		exp -= len(s) - i - 1
+	}
+	mant := strings.TrimLeft(strings.ReplaceAll(s, ".", ""), "0")
+	return math.Pow(10, float64(exp)), len(mant)
+}

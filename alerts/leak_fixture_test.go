@@ -1,0 +1,121 @@
+package alerts
+
+import (
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// riseWant is what the analysis must recover from a fixture. The truths are
+// the generating formula's parameters (riseSpecs), not values read back
+// from the analysis. Tolerances are relative; each recovered rate must also
+// lie within 3 of its own standard uncertainties of the truth, so the stated
+// uncertainty is tested too.
+type riseWant struct {
+	class              Classification
+	model              Model   // "" to accept either
+	leakTol, outgasTol float64 // 0 skips that check
+	reason             string  // a word the reason must contain
+	minTrim, maxTrim   float64 // seconds trimmed from a falling start
+}
+
+const fixtureVolume = 0.03 // m³ (30 L)
+
+var riseWants = map[string]riseWant{
+	"leak-line":      {class: LeakDominated, model: ModelLine, leakTol: 0.03},
+	"outgassing":     {class: OutgassingDominated, model: ModelCurved, outgasTol: 0.05},
+	"mixed":          {class: Mixed, model: ModelCurved, leakTol: 0.10, outgasTol: 0.10},
+	"flat":           {class: Inconclusive, reason: "within noise"},
+	"outliers":       {class: LeakDominated, model: ModelLine, leakTol: 0.03},
+	"falling-start":  {class: Mixed, model: ModelCurved, leakTol: 0.10, outgasTol: 0.15, minTrim: 50, maxTrim: 75},
+	"quantised":      {class: LeakDominated, model: ModelLine, leakTol: 0.03},
+	"unsorted":       {class: LeakDominated, model: ModelLine, leakTol: 0.03},
+	"short":          {class: Inconclusive, reason: "too short"},
+	"log-outgassing": {},
+	"furnace":        {class: LeakDominated, model: ModelLine, leakTol: 0.02},
+}
+
+func TestRiseFixtures(t *testing.T) {
+	for _, spec := range riseSpecs {
+		t.Run(spec.Name, func(t *testing.T) {
+			want, ok := riseWants[spec.Name]
+			if !ok {
+				t.Fatalf("no expectation for fixture %q", spec.Name)
+			}
+			res := analyzeFixture(t, spec)
+			if want.class != "" && res.Classification != want.class {
+				t.Errorf("classification %s (%s), want %s", res.Classification, res.Reason, want.class)
+			}
+			if want.model != "" && res.Fit.Model != want.model {
+				t.Errorf("model %s (ΔBIC %.1f), want %s", res.Fit.Model, res.DeltaBIC, want.model)
+			}
+			if !strings.Contains(res.Reason, want.reason) {
+				t.Errorf("reason %q lacks %q", res.Reason, want.reason)
+			}
+			if res.TrimmedSpan < want.minTrim || (want.maxTrim > 0 && res.TrimmedSpan > want.maxTrim) {
+				t.Errorf("trimmed %.1f s, want %.0f to %.0f s", res.TrimmedSpan, want.minTrim, want.maxTrim)
+			}
+			if want.leakTol > 0 {
+				checkRate(t, "leak rate", res.LeakRate, res.LeakRateUncertainty, fixtureVolume*spec.A, want.leakTol)
+			}
+			if want.outgasTol > 0 {
+				// Outgassing at the record's start, which a trim may move past the valve closing.
+				truth := fixtureVolume * spec.B / spec.Tau * math.Exp(-(res.Start-spec.Close)/spec.Tau)
+				checkRate(t, "outgassing", res.OutgassingRate, res.OutgassingRateUncertainty, truth, want.outgasTol)
+			}
+			t.Logf("%s: %s; Q = %.4g ± %.2g, outgassing %.4g ± %.2g Pa·m³/s, share %.3f, ΔBIC %.1f, noise %.3g, r1 %.2f, notes %q",
+				res.Classification, res.Reason, res.LeakRate, res.LeakRateUncertainty, res.OutgassingRate,
+				res.OutgassingRateUncertainty, res.LeakShare, res.DeltaBIC, res.Noise, res.Autocorrelation, res.Notes)
+		})
+	}
+}
+
+// analyzeFixture checks that the file matches its formula (or rewrites it
+// under -update), reads it back and analyses it.
+func analyzeFixture(t *testing.T, spec riseSpec) RiseResult {
+	t.Helper()
+	path := filepath.Join("testdata", "rise", spec.Name+".csv")
+	text := spec.csv()
+	if *update {
+		if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	data, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatalf("%v (run with -update to write the fixtures)", err)
+	}
+	if string(data) != text {
+		t.Fatalf("%s differs from its generating formula; rerun with -update if the formula changed on purpose", path)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	rec, err := ReadRiseCSV(f, path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := AnalyzeRise(rec.Time, rec.Pressure, fixtureVolume, RiseOptions{Step: rec.ReadingStep(1)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return res
+}
+
+func checkRate(t *testing.T, what string, got, u, truth, tol float64) {
+	t.Helper()
+	if math.Abs(got-truth) > tol*math.Abs(truth) {
+		t.Errorf("%s %.5g, want %.5g within %.0f %%", what, got, truth, 100*tol)
+	}
+	if math.Abs(got-truth) > 3*u {
+		t.Errorf("%s %.5g is %.1f standard uncertainties (%.2g) from the truth %.5g: uncertainty too small",
+			what, got, math.Abs(got-truth)/u, u, truth)
+	}
+	if !(u > 0) {
+		t.Errorf("%s uncertainty %g, want > 0", what, u)
+	}
+}
