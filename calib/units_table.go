@@ -70,9 +70,10 @@ var unitTable = []unitDef{
 	// temperature, base °C
 	{name: "C", symbol: "°C", dim: Temperature, num: 1, den: 1,
 		aliases: []string{"°C", "℃", "degC", "celsius"}},
-	{name: "K", symbol: "K", dim: Temperature, num: 1, den: 1, zero: 273.15, aliases: []string{"kelvin"}},
+	{name: "K", symbol: "K", dim: Temperature, num: 1, den: 1, zero: 273.15, aliases: []string{"kelvin"},
+		note: "T/K = t/°C + 273.15"},
 	{name: "F", symbol: "°F", dim: Temperature, num: 5, den: 9, zero: 32,
-		aliases: []string{"°F", "℉", "degF", "fahrenheit"}},
+		aliases: []string{"°F", "℉", "degF", "fahrenheit"}, note: "t/°F = 1.8·t/°C + 32"},
 
 	// length, base m
 	{name: "m", symbol: "m", dim: Length, num: 1, den: 1, aliases: []string{"metre", "meter"}},
@@ -142,6 +143,35 @@ func appendUnitRow(s []int, i int) []int {
 		}
 	}
 	return append(s, i)
+}
+
+// Aliases returns the other names the table accepts for u, besides the
+// case variants every name gets.
+func (u Unit) Aliases() []string {
+	if d, ok := u.def(); ok {
+		return append([]string(nil), d.aliases...)
+	}
+	return nil
+}
+
+// Note returns a short remark on u's definition ("conventional mercury",
+// "standard cm³/min at 0 °C and 101325 Pa"), or "".
+func (u Unit) Note() string {
+	d, _ := u.def()
+	return d.note
+}
+
+// Affine reports whether u has an offset from the base unit (K, °F), so
+// that ToSI(0) is not 0 and differences do not convert like readings.
+func (u Unit) Affine() bool { return u.zero != 0 }
+
+func (u Unit) def() (unitDef, bool) {
+	for _, d := range unitTable {
+		if d.name == u.Name && d.dim == u.Dim {
+			return d, true
+		}
+	}
+	return unitDef{}, false
 }
 
 func (d unitDef) unit() Unit {

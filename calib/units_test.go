@@ -339,3 +339,22 @@ func TestDimensionString(t *testing.T) {
 		t.Errorf("Dimension(99).Base() = %v, want the zero Unit", got)
 	}
 }
+
+func TestUnitDescriptions(t *testing.T) {
+	l, _ := LookupUnit("L")
+	if got := strings.Join(l.Aliases(), ","); !strings.Contains(got, "litre") {
+		t.Errorf("L aliases = %q, want litre among them", got)
+	}
+	sccm, _ := LookupUnit("sccm")
+	if !strings.Contains(sccm.Note(), "0 °C and 101325 Pa") {
+		t.Errorf("sccm note = %q, want its standard conditions", sccm.Note())
+	}
+	k, _ := LookupUnit("K")
+	pa, _ := LookupUnit("Pa")
+	if !k.Affine() || pa.Affine() {
+		t.Errorf("Affine: K %v, Pa %v; want true, false", k.Affine(), pa.Affine())
+	}
+	if (Unit{}).Aliases() != nil || (Unit{}).Note() != "" {
+		t.Error("the zero Unit has aliases or a note")
+	}
+}
