@@ -16,6 +16,12 @@ type Dimension uint8
 // unit: pressure in Pa, volume in m³, throughput (leak rate, pV flow) in
 // Pa·m³/s, temperature in °C, length in m, density in kg/m³, pumping speed
 // in m³/s and time in s.
+//
+// Throughput is pV flow. Its units sccm and slm are standard cm³ (or L) per
+// minute at 0 °C and 101325 Pa, ideal gas: 1 sccm = 101325 Pa × 1 cm³ / 60 s
+// = 1.68875e-3 Pa·m³/s = 0.0168875 mbar·L/s. That pV equivalence holds for
+// gas at 0 °C; the same flow of molecules at 20 °C carries 293.15/273.15
+// times the pV. Other "standard" conditions (20 °C, 25 °C) are not accepted.
 const (
 	Pressure Dimension = iota + 1
 	Volume
