@@ -171,7 +171,7 @@ func newSensor(ic InstrumentConfig) (sensor, calib.Transfer, error) {
 	v.expect(ic.Noise >= 0 && !math.IsInf(ic.Noise, 1), "noise", "must be a finite value ≥ 0 (0 means the kind's default), got %g", ic.Noise)
 	v.expect(ic.Timeout >= 0, "timeout", "must not be negative, got %s", ic.Timeout)
 	only := func(set bool, field, kind string) {
-		v.expect(!set || ic.Kind == kind, field, "only a %s instrument takes %s (this one is %q)", kind, field, ic.Kind)
+		v.expect(!set || ic.Kind == kind, field, "only %s instruments take %s (this one is %q)", kind, field, ic.Kind)
 	}
 	only(ic.FullScale != 0, "full_scale", KindCDG)
 	only(ic.HeatLoss != (calib.HeatLoss{}), "heat_loss", KindPirani)
