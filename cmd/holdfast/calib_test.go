@@ -1,0 +1,189 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"flag"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"holdfast/calib"
+)
+
+// updateCalib is -update: rewrite the calib and column golden files. It
+// reuses the flag if another test file of this package defined it first.
+var updateCalib = lookupUpdateFlag()
+
+func lookupUpdateFlag() func() bool {
+	if f := flag.Lookup("update"); f != nil {
+		return func() bool { return f.Value.String() == "true" }
+	}
+	b := flag.Bool("update", false, "rewrite testdata golden files")
+	return func() bool { return *b }
+}
+
+// checkCalibGolden compares got with testdata/calib/name, or rewrites it under -update.
+func checkCalibGolden(t *testing.T, name, got string) {
+	t.Helper()
+	path := filepath.Join("testdata", "calib", name)
+	if updateCalib() {
+		if err := os.WriteFile(path, []byte(got), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return
+	}
+	want, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatalf("%v (run go test -update to create it)", err)
+	}
+	if got != string(want) {
+		t.Errorf("%s differs (go test -update rewrites it)\n--- got\n%s\n--- want\n%s", path, got, want)
+	}
+}
+
+func runCmd(t *testing.T, args ...string) (stdout, stderr string, err error) {
+	t.Helper()
+	var o, e bytes.Buffer
+	err = run(context.Background(), args, &o, &e)
+	return o.String(), e.String(), err
+}
+
+// Fit a demo set, then read pressures back through the written file.
+func TestCalibFitEvalRoundTrip(t *testing.T) {
+	for _, tc := range []struct{ csv, model, refUnit, evalUnit string }{
+		{"foreline.csv", "pirani", "Pa", "Pa"},
+		{"foreline.csv", "pchip", "Pa", "mbar"},
+		{"logout.csv", "log-linear", "Torr", "Torr"},
+		{"logout.csv", "poly", "Torr", "Torr"},
+	} {
+		t.Run(tc.model, func(t *testing.T) {
+			csv := filepath.Join("testdata", "calib", tc.csv)
+			out, report, err := runCmd(t, "calib", "fit", "--points", csv, "--model", tc.model,
+				"--reference-unit", tc.refUnit, "--reference-uncertainty", "1%", "--json")
+			if err != nil {
+				t.Fatalf("fit: %v\n%s", err, report)
+			}
+			base := strings.TrimSuffix(tc.csv, ".csv") + "-" + tc.model
+			checkCalibGolden(t, base+".json", out)
+			checkCalibGolden(t, base+".report", report)
+			file := filepath.Join(t.TempDir(), "c.json")
+			if err := os.WriteFile(file, []byte(out), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			var c calib.Calibration
+			if err := json.Unmarshal([]byte(out), &c); err != nil {
+				t.Fatal(err)
+			}
+			args := []string{"calib", "eval", "--calibration", file, "--unit", tc.evalUnit}
+			for _, p := range c.Points {
+				args = append(args, strconv.FormatFloat(p.Raw, 'g', -1, 64))
+			}
+			got, warn, err := runCmd(t, args...)
+			if err != nil || warn != "" {
+				t.Fatalf("eval: %v, stderr %q", err, warn)
+			}
+			lines := strings.Fields(got)
+			unit, _ := calib.ParseUnit(tc.evalUnit, calib.Pressure)
+			for i, p := range c.Points {
+				v, _ := strconv.ParseFloat(lines[i], 64)
+				// The printed value (6 digits) is the reference times (1 + residual).
+				want := unit.FromSI(p.Reference) * (1 + c.Fit.Residuals[i])
+				if math.Abs(v/want-1) > 1e-5 {
+					t.Errorf("point %d: eval printed %s, want %g", i+1, lines[i], want)
+				}
+			}
+		})
+	}
+}
+
+func TestCalibEvalOutsideRange(t *testing.T) {
+	out, _, err := runCmd(t, "calib", "fit", "--points", filepath.Join("testdata", "calib", "logout.csv"),
+		"--model", "log-linear", "--reference-unit", "Torr", "--quiet")
+	if err != nil {
+		t.Fatal(err)
+	}
+	file := filepath.Join(t.TempDir(), "c.json")
+	if err := os.WriteFile(file, []byte(out), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	got, warn, err := runCmd(t, "calib", "eval", "--calibration", file, "--unit", "Torr", "1.0", "--strict=false")
+	if err != nil || !strings.Contains(warn, "warning") || !strings.Contains(warn, "pressure below") {
+		t.Errorf("eval outside: err %v, stderr %q", err, warn)
+	}
+	if v, _ := strconv.ParseFloat(strings.TrimSpace(got), 64); math.Abs(v/1e-5-1) > 0.02 {
+		t.Errorf("eval 1.0 V printed %q, want about 1e-5 Torr", got)
+	}
+	_, _, err = runCmd(t, "calib", "eval", "--calibration", file, "--strict", "-0.5")
+	if err == nil || !strings.Contains(err.Error(), "outside the calibrated raw range") {
+		t.Errorf("--strict: err %v, want the range error", err)
+	}
+}
+
+func TestCalibFitErrors(t *testing.T) {
+	dir := filepath.Join("testdata", "calib")
+	for _, tc := range []struct {
+		name string
+		args []string
+		want []string
+	}{
+		{"bad lines", []string{"--points", filepath.Join(dir, "bad.csv"), "--model", "linear"},
+			[]string{"bad.csv:4: reference", `"abc"`, "bad.csv:5: reference \"-3\"", "bad.csv:6: raw \"x\""}},
+		{"reversal", []string{"--points", filepath.Join(dir, "reversed.csv"), "--model", "pchip"},
+			[]string{"points 4 (line 5) and 5 (line 6)", "raw 2.31 then 2.29"}},
+		{"model", []string{"--points", filepath.Join(dir, "reversed.csv"), "--model", "cubic"}, []string{`unknown model "cubic"`}},
+		{"missing file", []string{"--points", filepath.Join(dir, "none.csv"), "--model", "pchip"}, []string{"none.csv"}},
+		{"unit", []string{"--points", filepath.Join(dir, "logout.csv"), "--model", "pchip", "--reference-unit", "furlong"}, []string{"--reference-unit"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			_, _, err := runCmd(t, append([]string{"calib", "fit"}, tc.args...)...)
+			for _, w := range tc.want {
+				if err == nil || !strings.Contains(err.Error(), w) {
+					t.Errorf("error %v does not contain %q", err, w)
+				}
+			}
+		})
+	}
+}
+
+func TestCalibHelpExplainsWorkflow(t *testing.T) {
+	out, _, err := runCmd(t, "calib", "--help")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, w := range []string{"calib fit --points", "calib eval --calibration", "calib plot", "raw,reference", "--strict", "safety interlock"} {
+		if !strings.Contains(out, w) {
+			t.Errorf("calib --help lacks %q", w)
+		}
+	}
+}
+
+func TestCalibPlot(t *testing.T) {
+	out, _, err := runCmd(t, "calib", "fit", "--points", filepath.Join("testdata", "calib", "foreline.csv"), "--model", "heat-loss", "--quiet")
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	file := filepath.Join(dir, "c.json")
+	if err := os.WriteFile(file, []byte(out), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, ext := range []string{"svg", "png"} {
+		img := filepath.Join(dir, "c."+ext)
+		if _, _, err := runCmd(t, "calib", "plot", "--calibration", file, "-o", img); err != nil {
+			t.Fatalf("%s: %v", ext, err)
+		}
+		b, err := os.ReadFile(img)
+		if err != nil {
+			t.Fatal(err)
+		}
+		head := map[string]string{"svg": "<?xml", "png": "\x89PNG"}[ext]
+		if !bytes.HasPrefix(b, []byte(head)) || len(b) < 1000 {
+			t.Errorf("%s output starts %q (%d bytes)", ext, b[:min(len(b), 8)], len(b))
+		}
+	}
+}
