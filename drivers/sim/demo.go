@@ -31,7 +31,7 @@ import "time"
 //	          well below its pre-bake value
 //	3:00      a real leak of 1e-6 Pa·m³/s (1e-5 mbar·L/s) opens
 //	3:30      isolation valve closed for a 5 min hold test: the pressure
-//	          rises almost linearly at about 3.5e-5 Pa/s (leak plus a little
+//	          rises almost linearly at about 3.8e-5 Pa/s (leak plus a little
 //	          outgassing over 30 L), so the ionisation gauge switches off near
 //	          the end
 //	3:35      valve reopened; pumping on to the end
