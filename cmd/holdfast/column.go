@@ -29,9 +29,9 @@ Mercury is toxic and a glass column under vacuum can break: handle both as
 your local codes and your site's safety rules require.`
 
 type columnFlags struct {
-	height, density, liquid, temp, densityAt, elevation, unit string
-	expansion, gravity, latitude                              float64
-	open, asJSON                                              bool
+	height, density, liquid, temp, densityAt, elevation, unit, latitude string
+	expansion, gravity                                                  float64
+	open, asJSON                                                        bool
 }
 
 func columnFlagSet(stderr io.Writer) (*flag.FlagSet, *columnFlags) {
@@ -44,7 +44,7 @@ func columnFlagSet(stderr io.Writer) (*flag.FlagSet, *columnFlags) {
 	fs.StringVar(&f.densityAt, "density-at", "20C", "temperature the --density is quoted at")
 	fs.Float64Var(&f.expansion, "expansion", 0, "volumetric expansion coefficient of the liquid, per kelvin (e.g. 7e-4)")
 	fs.Float64Var(&f.gravity, "gravity", 0, "local gravity in m/s2 (default: standard 9.80665, or from --latitude)")
-	fs.Float64Var(&f.latitude, "latitude", math.NaN(), "latitude in degrees: gravity by the 1980 international formula")
+	fs.StringVar(&f.latitude, "latitude", "", "latitude in `degrees`: gravity by the 1980 international formula")
 	fs.StringVar(&f.elevation, "elevation", "0m", "height above sea level for --latitude (free-air correction), e.g. 520m")
 	fs.StringVar(&f.unit, "unit", "Pa", "pressure unit to print in")
 	fs.BoolVar(&f.open, "open", false, "open U-tube: the result is a pressure difference, not absolute")
@@ -127,14 +127,19 @@ func (f *columnFlags) column() (calib.Column, calib.Unit, string, error) {
 	gnote := "given"
 	elev := get("elevation", f.elevation, calib.Length)
 	switch {
-	case f.gravity != 0 && !math.IsNaN(f.latitude):
+	case f.gravity != 0 && f.latitude != "":
 		errs = append(errs, errors.New("give --gravity or --latitude, not both"))
-	case !math.IsNaN(f.latitude):
-		g, err := calib.LocalGravity(f.latitude, elev)
+	case f.latitude != "":
+		lat, err := strconv.ParseFloat(strings.TrimSuffix(f.latitude, "°"), 64)
+		if err != nil {
+			errs = append(errs, fmt.Errorf("--latitude %q: want degrees, e.g. 48.1", f.latitude))
+			break
+		}
+		g, err := calib.LocalGravity(lat, elev)
 		if err != nil {
 			errs = append(errs, fmt.Errorf("--latitude/--elevation: %w", err))
 		}
-		col.Gravity, gnote = g, fmt.Sprintf("1980 formula at %g° and %g m", f.latitude, elev)
+		col.Gravity, gnote = g, fmt.Sprintf("1980 formula at %g° and %g m", lat, elev)
 	case f.gravity == 0:
 		col.Gravity, gnote = calib.StandardGravity, "standard"
 	}
