@@ -1,8 +1,10 @@
 package sim
 
 import (
+	"context"
 	"math"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 )
@@ -117,4 +119,60 @@ func TestSettersRejectBadValues(t *testing.T) {
 	if err := ch.SetLeak(1e-7); err != nil || ch.State().Leak != 1e-7 {
 		t.Errorf("SetLeak(1e-7): err %v, leak %g", err, ch.State().Leak)
 	}
+}
+
+// A load too large for the high stage drives the pressure up through the
+// crossover; the high stage drops out and the roughing stage alone holds
+// p = u + Q/S (REFERENCES.md §4 "with gas load Q and pump base pressure").
+func TestHighStageDropsOutAboveCrossover(t *testing.T) {
+	cfg := pumpedConfig()
+	cfg.Outgassing = 0
+	const q = 0.5 // Pa·m³/s
+	cfg.Events = []Event{{After: time.Hour, Action: ActBleed, Value: q}}
+	ch, clk := newTestChamber(t, cfg)
+	if p := stateAt(ch, clk, time.Hour).Pressure; !(p < 1e-5) {
+		t.Fatalf("before the bleed: %g Pa, want high vacuum", p)
+	}
+	st := stateAt(ch, clk, 3*time.Hour)
+	if want := cfg.Rough.Ultimate + q/cfg.Rough.Speed; relErr(st.Pressure, want) > 1e-9 {
+		t.Errorf("with a %g Pa·m³/s bleed: %.10g Pa, want %.10g", q, st.Pressure, want)
+	}
+	if want := cfg.Rough.Speed * (1 - cfg.Rough.Ultimate/st.Pressure); relErr(st.PumpSpeed, want) > 1e-12 {
+		t.Errorf("speed %g m³/s, want the roughing stage alone %g", st.PumpSpeed, want)
+	}
+}
+
+// Reads, state queries and changes from many goroutines are safe (run with
+// -race) and time still only moves forward.
+func TestConcurrentUse(t *testing.T) {
+	clk := NewClock(epoch, 1000)
+	ch, err := New(Demo(), clk.Now)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ins []*Instrument
+	for _, ic := range DemoInstruments() {
+		ins = append(ins, mustInstrument(t, ch, ic))
+	}
+	var wg sync.WaitGroup
+	for _, in := range ins {
+		wg.Go(func() {
+			var last time.Time
+			for range 200 {
+				r, err := in.Read(context.Background())
+				if err == nil && r.At.Before(last) {
+					t.Errorf("%s: reading at %s after one at %s", in.Name(), r.At, last)
+				}
+				last = r.At
+			}
+		})
+	}
+	wg.Go(func() {
+		for i := range 200 {
+			ch.Isolate(i%2 == 0)
+			ch.SetLeak(float64(i) * 1e-9)
+			ch.State()
+		}
+	})
+	wg.Wait()
 }

@@ -32,6 +32,11 @@ func Kinds() []string { return []string{KindPirani, KindCDG, KindIon, KindThermo
 const defaultTimeout = 200 * time.Millisecond
 
 // InstrumentConfig describes one simulated instrument on a chamber.
+//
+// Noise is one standard deviation of Gaussian noise, by kind: pirani, a
+// fraction of the gas term of the signal (default 2e-3), on top of a fixed
+// floor worth 0.02 Pa; cdg, a fraction of full scale (default 1e-4); ion, a
+// fraction of the reading (default 1e-2); thermocouple, kelvin (default 0.2).
 type InstrumentConfig struct {
 	Name      string         // unique on its chamber; used in errors and as the fail/recover target
 	Kind      string         // one of Kinds()
@@ -43,11 +48,6 @@ type InstrumentConfig struct {
 	Protect   float64        // ion only, Pa: emission switches off above this; 0 means 1e-2
 	Timeout   time.Duration  // how long a silent instrument makes Read wait (wall time); 0 means 200 ms
 }
-
-// Noise by kind, as one standard deviation of Gaussian noise: pirani, a
-// fraction of the gas term of the signal (default 2e-3) plus a fixed floor
-// worth 0.02 Pa; cdg, a fraction of full scale (default 1e-4); ion, a
-// fraction of the reading (default 1e-2); thermocouple, kelvin (default 0.2).
 
 // An Instrument reads one quantity of a Chamber the way a real instrument
 // does. It implements drivers.Driver and is safe for concurrent use.

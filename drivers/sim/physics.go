@@ -119,11 +119,16 @@ func interior(lo, hi float64) float64 {
 	return (lo + hi) / 2
 }
 
-// interval finds the linear piece the trajectory from p occupies under load
-// q: the one containing p, or, when p sits on a boundary, the one on the side
-// it moves toward. ok is false when p is at rest.
-func (pm *pumping) interval(p, q float64) (lo, hi float64, ok bool) {
+// interval finds the linear piece the trajectory from p occupies: the one
+// containing p, or, when p sits on a boundary, the one on the side it moves
+// toward under that piece's load (load gives the effective constant load for
+// a piece of total speed S). ok is false when p is at rest.
+func (pm *pumping) interval(p float64, load func(s float64) float64) (lo, hi float64, ok bool) {
 	e := pm.edges[:pm.nEdges]
+	net := func(lo, hi float64) float64 {
+		s, u := pm.coeffs(interior(lo, hi))
+		return load(s) + u - s*p
+	}
 	for i := 0; i+1 < len(e); i++ {
 		if p > e[i] && p < e[i+1] {
 			return e[i], e[i+1], true
@@ -131,13 +136,11 @@ func (pm *pumping) interval(p, q float64) (lo, hi float64, ok bool) {
 		if p != e[i] {
 			continue
 		}
-		if s, u := pm.coeffs(interior(e[i], e[i+1])); q+u-s*p > 0 {
+		if net(e[i], e[i+1]) > 0 {
 			return e[i], e[i+1], true
 		}
-		if i > 0 {
-			if s, u := pm.coeffs(interior(e[i-1], e[i])); q+u-s*p < 0 {
-				return e[i-1], e[i], true
-			}
+		if i > 0 && net(e[i-1], e[i]) < 0 {
+			return e[i-1], e[i], true
 		}
 		return 0, 0, false
 	}
@@ -163,17 +166,23 @@ func lagWeight(x float64) float64 {
 // the next piece. The result lies between p and the equilibrium, so it is
 // never negative.
 func (pm *pumping) step(p, q0, dq, vol, h float64) float64 {
-	tau := 0.0                    // time into the step
+	tau := 0.0 // time into the step
+	load := func(s float64) float64 {
+		rest := h - tau
+		if s == 0 {
+			return q0 + dq*(tau+rest/2)
+		}
+		return q0 + dq*(tau+rest*lagWeight(s/vol*rest))
+	}
 	for range 2 * len(pm.edges) { // motion is monotone: one crossing per boundary at most
 		rest := h - tau
-		qs := q0 + dq*tau
-		lo, hi, ok := pm.interval(p, qs+dq*rest/2)
+		lo, hi, ok := pm.interval(p, load)
 		if !ok {
 			return p
 		}
 		s, u := pm.coeffs(interior(lo, hi))
 		if s == 0 { // sealed or unpumped: a rise at q/V
-			rate := (qs + dq*rest/2) / vol
+			rate := load(0) / vol
 			if !math.IsInf(hi, 1) && p+rate*rest >= hi {
 				tau += (hi - p) / rate
 				p = hi
@@ -182,7 +191,7 @@ func (pm *pumping) step(p, q0, dq, vol, h float64) float64 {
 			return p + rate*rest
 		}
 		k := s / vol
-		eq := (qs + dq*rest*lagWeight(k*rest) + u) / s
+		eq := (load(s) + u) / s
 		edge := math.NaN()
 		switch {
 		case eq > hi:
