@@ -2,6 +2,7 @@ package store
 
 import (
 	"cmp"
+	"encoding/binary"
 	"fmt"
 	"slices"
 	"time"
@@ -25,15 +26,15 @@ func (db *DB) Flush() error {
 	}
 	start := time.Now()
 	groups := groupBySeries(batch)
-	damaged := 0
+	var damaged []*ChunkError
 	err = db.bolt.Update(func(tx *bolt.Tx) error {
-		damaged = 0 // count only what this attempt did
+		damaged = nil // report only what the committed attempt did
 		for _, g := range groups {
-			n, err := mergeSeries(tx, g.name, g.pts)
+			bad, err := mergeSeries(tx, g.name, g.pts)
 			if err != nil {
 				return fmt.Errorf("series %q: %w", g.name, err)
 			}
-			damaged += n
+			damaged = append(damaged, bad...)
 		}
 		return nil
 	})
@@ -52,9 +53,13 @@ func (db *DB) Flush() error {
 	db.stats.Flushes++
 	db.stats.LastError = nil
 	db.stats.LastFlush = took
-	db.stats.Damaged += int64(damaged)
+	db.stats.Damaged += int64(len(damaged))
 	db.stats.FileBytes = size
 	db.mu.Unlock()
+	for _, e := range damaged {
+		db.log.Warn("unreadable chunk moved aside", "series", e.Series, "chunk_start", e.Start,
+			"bucket", string(bucketDamaged), "err", e.Err)
+	}
 	return nil
 }
 
@@ -88,12 +93,12 @@ func groupBySeries(batch []pending) []group {
 // mergeSeries merges sorted points into a series' chunks: the chunk that
 // covers the first new point and every later chunk that starts before the
 // last one are decoded, merged and split again. For points that arrive in
-// order that is just the open (last) chunk. It returns how many unreadable
+// order that is just the open (last) chunk. It returns the unreadable
 // chunks it moved aside.
-func mergeSeries(tx *bolt.Tx, series string, pts []Point) (int, error) {
+func mergeSeries(tx *bolt.Tx, series string, pts []Point) ([]*ChunkError, error) {
 	b, err := tx.Bucket(bucketSeries).CreateBucketIfNotExists([]byte(series))
 	if err != nil {
-		return 0, err
+		return nil, err
 	}
 	b.FillPercent = fillPercent
 	first, last := pts[0].At.UnixNano(), pts[len(pts)-1].At.UnixNano()
@@ -101,7 +106,7 @@ func mergeSeries(tx *bolt.Tx, series string, pts []Point) (int, error) {
 	k, v := seekCovering(c, first)
 	var old []Point
 	var keys [][]byte
-	damaged := 0
+	var damaged []*ChunkError
 	for ; k != nil; k, v = c.Next() {
 		kt, ok := keyTime(k)
 		if !ok || v == nil {
@@ -114,28 +119,29 @@ func mergeSeries(tx *bolt.Tx, series string, pts []Point) (int, error) {
 		got, err := decodeChunk(v)
 		if err != nil {
 			if err := moveAside(tx, series, k, v); err != nil {
-				return 0, err
+				return nil, err
 			}
-			damaged++
+			damaged = append(damaged, &ChunkError{Series: series, Start: time.Unix(0, kt).UTC(), Err: err})
 			continue
 		}
 		old = append(old, got...)
 	}
 	for _, k := range keys {
 		if err := b.Delete(k); err != nil {
-			return 0, err
+			return nil, err
 		}
 	}
 	for _, part := range splitChunks(mergePoints(old, pts)) {
 		if err := b.Put(chunkKey(part[0].At.UnixNano()), encodeChunk(part)); err != nil {
-			return 0, err
+			return nil, err
 		}
 	}
 	return damaged, nil
 }
 
 // moveAside copies an unreadable chunk, byte for byte, to
-// damaged-chunks/<series>/<key> so no write ever destroys it.
+// damaged-chunks/<series>/<key><sequence> so no write ever destroys it
+// (the 8-byte sequence keeps a second copy from replacing the first).
 func moveAside(tx *bolt.Tx, series string, k, v []byte) error {
 	d, err := tx.CreateBucketIfNotExists(bucketDamaged)
 	if err != nil {
@@ -145,7 +151,11 @@ func moveAside(tx *bolt.Tx, series string, k, v []byte) error {
 	if err != nil {
 		return err
 	}
-	return s.Put(slices.Clone(k), slices.Clone(v))
+	seq, err := s.NextSequence()
+	if err != nil {
+		return err
+	}
+	return s.Put(binary.BigEndian.AppendUint64(slices.Clone(k), seq), slices.Clone(v))
 }
 
 // mergePoints merges two time-sorted lists; on equal times a's points come first.
