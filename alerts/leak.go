@@ -75,7 +75,7 @@ const (
 	DefaultMinPoints  = 10
 	DefaultMinSpan    = 10.0
 	DefaultMaxPoints  = 20000
-	minCurvedPoints   = 20
+	minCurvedPoints   = 5
 	riseCoverage      = 3.0 // a rise below 3 standard uncertainties is not told from noise
 	riseOutlierFactor = 3.0 // a residual above 3 noise units counts as an outlier
 )

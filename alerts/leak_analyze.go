@@ -89,14 +89,14 @@ func fitRise(rec record, q *RiseQuality) (RiseFit, error) {
 	for _, v := range rec.p {
 		pScale = max(pScale, math.Abs(v-pRef))
 	}
-	tiny := max(1e-12*(math.Abs(pRef)+pScale), 1e-300)
-	if pScale == 0 {
-		pScale = tiny
+	if pScale == 0 { // a flat record: any scale will do
+		pScale = max(math.Abs(pRef), 1e-12)
 	}
+	tiny := max(1e-12*(math.Abs(pRef)+pScale), 1e-300)
 	u, y, sq := make([]float64, n), make([]float64, n), make([]float64, n)
 	for i := range u {
 		u[i], y[i] = rec.t[i]/span, (rec.p[i]-pRef)/pScale
-		sq[i] = rec.q[i] * rec.q[i] / (12 * float64(q.GroupSize)) / (pScale * pScale)
+		sq[i] = (rec.q[i] / pScale) * (rec.q[i] / pScale) / (12 * float64(q.GroupSize))
 	}
 	d := newDesign(u, y, sq, tiny/pScale)
 	d.setNoise(rec.diffNoise / pScale)
@@ -108,7 +108,8 @@ func fitRise(rec record, q *RiseQuality) (RiseFit, error) {
 			return RiseFit{}, cerr
 		}
 		old := d.sc
-		d.solveNoise(bestOf(line, curved, cerr).resid)
+		best := bestOf(line, curved, cerr)
+		d.solveNoise(best.resid, best.k)
 		if math.Abs(d.sc-old) <= 0.05*old {
 			break
 		}

@@ -31,13 +31,14 @@ type design struct {
 	u, y, one, g []float64
 	sq, s        []float64 // quantisation variances; per-point scales
 	sc, tiny     float64   // noise beyond quantisation; a floor against 0
-	w, r         []float64 // IRLS weights (Huber weight / s_i²); residuals
+	r            []float64 // residuals
+	in           []bool    // within the Huber constant
 }
 
 func newDesign(u, y, sq []float64, tiny float64) *design {
 	n := len(u)
 	d := &design{u: u, y: y, sq: sq, tiny: tiny, one: make([]float64, n), g: make([]float64, n),
-		s: make([]float64, n), w: make([]float64, n), r: make([]float64, n)}
+		s: make([]float64, n), r: make([]float64, n), in: make([]bool, n)}
 	for i := range d.one {
 		d.one[i] = 1
 	}
@@ -53,39 +54,61 @@ func (d *design) setNoise(sc float64) {
 }
 
 // huber fits y ≈ Σ coef_j·cols_j with the Huber loss on the standardised
-// residuals r_i/s_i by iteratively reweighted least squares, starting from
-// weighted least squares. It returns the loss Σρ(r_i/s_i), leaving the
-// residuals in d.r.
+// residuals r_i/s_i. Given which points lie beyond the Huber constant, the
+// minimum solves a weighted least-squares problem exactly (the modified
+// Newton step of Huber, Robust Statistics (1981) §7.8); the steps repeat
+// until that partition stops changing, halving a step that would raise the
+// loss. It returns the loss Σρ(r_i/s_i), leaving residuals in d.r.
 func (d *design) huber(cols [][]float64, coef []float64) (float64, bool) {
-	for i, s := range d.s {
-		d.w[i] = 1 / (s * s)
+	for i := range d.in {
+		d.in[i] = true
 	}
-	prev := make([]float64, len(coef))
-	loss := math.Inf(1)
-	for iter := 0; iter < 60; iter++ {
-		if !weightedLS(cols, d.y, d.w, coef) {
-			return 0, false
-		}
-		loss = d.reweight(cols, coef)
-		if iter > 0 && converged(coef, prev) {
+	if !d.newtonStep(cols, coef, false) {
+		return 0, false
+	}
+	loss := d.evaluate(cols, coef)
+	prev, trial := make([]float64, len(coef)), make([]float64, len(coef))
+	for range 50 {
+		copy(prev, coef)
+		changed := d.partition()
+		if !changed {
 			break
 		}
-		copy(prev, coef)
+		if !d.newtonStep(cols, trial, false) && !d.newtonStep(cols, trial, true) {
+			return 0, false
+		}
+		next := d.evaluate(cols, trial)
+		for h := 0; h < 30 && next > loss*(1+1e-14); h++ {
+			for j := range trial {
+				trial[j] = (prev[j] + trial[j]) / 2
+			}
+			next = d.evaluate(cols, trial)
+		}
+		if next > loss*(1+1e-14) {
+			break // no descent left: at the minimum to rounding
+		}
+		copy(coef, trial)
+		loss = next
 	}
+	d.evaluate(cols, coef)
 	return loss, true
 }
 
-func converged(c, prev []float64) bool {
-	for i := range c {
-		if math.Abs(c[i]-prev[i]) > 1e-9*(1+math.Abs(c[i])) {
-			return false
+// partition marks the points within the Huber constant from the current
+// residuals and reports whether any mark changed.
+func (d *design) partition() bool {
+	changed := false
+	for i, r := range d.r {
+		in := math.Abs(r) <= huberC*d.s[i]
+		if in != d.in[i] {
+			d.in[i], changed = in, true
 		}
 	}
-	return true
+	return changed
 }
 
-// reweight computes residuals, the Huber loss and the next IRLS weights.
-func (d *design) reweight(cols [][]float64, coef []float64) float64 {
+// evaluate computes the residuals and the Huber loss at coef.
+func (d *design) evaluate(cols [][]float64, coef []float64) float64 {
 	loss := 0.0
 	for i := range d.y {
 		f := 0.0
@@ -94,22 +117,70 @@ func (d *design) reweight(cols [][]float64, coef []float64) float64 {
 		}
 		r := d.y[i] - f
 		d.r[i] = r
-		s := d.s[i]
-		a := math.Abs(r) / s
+		a := math.Abs(r) / d.s[i]
 		if a <= huberC {
-			d.w[i] = 1 / (s * s)
 			loss += 0.5 * a * a
 		} else {
-			d.w[i] = huberC / a / (s * s)
 			loss += huberC*a - 0.5*huberC*huberC
 		}
 	}
 	return loss
 }
 
+// newtonStep solves for the minimum with the current partition: points
+// within the constant enter by least squares (weight 1/s_i²), points beyond
+// it pull with the constant force c·sign(r_i)/s_i. When too few points are
+// within for that to be solvable, irls weights the others by the Huber
+// weight c·s_i/|r_i| instead (an IRLS step). One pass over the data builds
+// the normal equations; gonum's Cholesky solves them.
+func (d *design) newtonStep(cols [][]float64, coef []float64, irls bool) bool {
+	k := len(cols)
+	var a [4][4]float64
+	var b [4]float64
+	var x [4]float64
+	for i := range d.y {
+		for j := range k {
+			x[j] = cols[j][i]
+		}
+		s := d.s[i]
+		if d.in[i] || irls {
+			w := 1 / (s * s)
+			if !d.in[i] {
+				w *= huberC * s / math.Abs(d.r[i])
+			}
+			for j := range k {
+				wx := w * x[j]
+				for l := j; l < k; l++ {
+					a[j][l] += wx * x[l]
+				}
+				b[j] += wx * d.y[i]
+			}
+			continue
+		}
+		f := math.Copysign(huberC/s, d.r[i])
+		for j := range k {
+			b[j] += f * x[j]
+		}
+	}
+	am := mat.NewSymDense(k, nil)
+	bv := mat.NewVecDense(k, b[:k])
+	for j := range k {
+		for l := j; l < k; l++ {
+			am.SetSym(j, l, a[j][l])
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(am) {
+		return false
+	}
+	return ch.SolveVecTo(mat.NewVecDense(k, coef), bv) == nil
+}
+
 // solveNoise sets the noise beyond quantisation so that the standardised
-// residuals r have unit robust scale: 1.4826 × median |r_i|/s_i = 1.
-func (d *design) solveNoise(r []float64) {
+// residuals r of a fit with k parameters have the robust scale that unit
+// noise leaves: 1.4826 × median |r_i|/s_i = √((n − k)/n).
+func (d *design) solveNoise(r []float64, k int) {
+	target := math.Sqrt(float64(max(len(r)-k, 1)) / float64(len(r)))
 	scale := func(sc float64) float64 {
 		v := make([]float64, len(r))
 		for i := range r {
@@ -121,13 +192,14 @@ func (d *design) solveNoise(r []float64) {
 	for _, v := range r {
 		hi = max(hi, math.Abs(v))
 	}
-	if scale(lo) <= 1 || hi == 0 {
+	hi /= target
+	if scale(lo) <= target || hi == 0 {
 		d.setNoise(0)
 		return
 	}
-	for range 60 {
+	for range 30 { // to 1e-9 of the bracket: far below what the noise estimate can resolve
 		mid := (lo + hi) / 2
-		if scale(mid) > 1 {
+		if scale(mid) > target {
 			lo = mid
 		} else {
 			hi = mid
@@ -136,37 +208,11 @@ func (d *design) solveNoise(r []float64) {
 	d.setNoise(hi)
 }
 
-// weightedLS solves the weighted normal equations for coef by Cholesky.
-func weightedLS(cols [][]float64, y, w, coef []float64) bool {
-	k := len(cols)
-	a := mat.NewSymDense(k, nil)
-	rhs := mat.NewVecDense(k, nil)
-	for j := range k {
-		for l := j; l < k; l++ {
-			s := 0.0
-			for i, wi := range w {
-				s += wi * cols[j][i] * cols[l][i]
-			}
-			a.SetSym(j, l, s)
-		}
-		s := 0.0
-		for i, wi := range w {
-			s += wi * cols[j][i] * y[i]
-		}
-		rhs.SetVec(j, s)
-	}
-	var ch mat.Cholesky
-	if !ch.Factorize(a) {
-		return false
-	}
-	x := mat.NewVecDense(k, coef)
-	return ch.SolveVecTo(x, rhs) == nil
-}
-
 // normFit is a fit in normalised units: coef = (p0, A, B) with A the rise of
 // the linear term over the record, B the curved term's amplitude, θ = τ/T.
 type normFit struct {
 	model Model
+	k     int // parameters
 	coef  [3]float64
 	theta float64
 	loss  float64
@@ -174,7 +220,7 @@ type normFit struct {
 }
 
 func (d *design) fitLine() (normFit, error) {
-	f := normFit{model: ModelLine}
+	f := normFit{model: ModelLine, k: 2}
 	loss, ok := d.huber([][]float64{d.one, d.u}, f.coef[:2])
 	if !ok {
 		return f, errors.New("the straight-line fit is singular (all points at one time?)")
@@ -234,7 +280,7 @@ func (d *design) fitCurved(thMin, thMax, lineLoss float64) (normFit, error) {
 	if c[2] <= 0 {
 		return normFit{}, errors.New("the curved fit finds no outgassing term (amplitude ≤ 0)")
 	}
-	return normFit{model: ModelCurved, coef: c, theta: theta, loss: loss, resid: slicesClone(d.r)}, nil
+	return normFit{model: ModelCurved, k: 4, coef: c, theta: theta, loss: loss, resid: slicesClone(d.r)}, nil
 }
 
 // jacobian returns the columns ∂f/∂(p0, A[, B, θ]) at the fit.

@@ -12,9 +12,9 @@ import (
 
 // Synthetic pressure-rise records: invented, each made by the formula in its
 // riseSpec from a fixed seed. testdata/rise/README.md lists them; run
-// "go test ./alerts -run TestRiseFixtures -update" to rewrite the files.
+// "go test ./alerts -run TestRiseFixtures -update-rise" to rewrite the files.
 
-var update = flag.Bool("update", false, "rewrite testdata files")
+var updateRise = flag.Bool("update-rise", false, "rewrite the rise fixtures in testdata/rise")
 
 // riseSpec generates one record. Times are i·Step for i in [0, N), then
 // shuffled and partly duplicated when asked; pressures (Pa) are

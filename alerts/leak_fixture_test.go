@@ -78,17 +78,17 @@ func analyzeFixture(t *testing.T, spec riseSpec) RiseResult {
 	t.Helper()
 	path := filepath.Join("testdata", "rise", spec.Name+".csv")
 	text := spec.csv()
-	if *update {
+	if *updateRise {
 		if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
 			t.Fatal(err)
 		}
 	}
 	data, err := os.ReadFile(path)
 	if err != nil {
-		t.Fatalf("%v (run with -update to write the fixtures)", err)
+		t.Fatalf("%v (run with -update-rise to write the fixtures)", err)
 	}
 	if string(data) != text {
-		t.Fatalf("%s differs from its generating formula; rerun with -update if the formula changed on purpose", path)
+		t.Fatalf("%s differs from its generating formula; rerun with -update-rise if the formula changed on purpose", path)
 	}
 	f, err := os.Open(path)
 	if err != nil {

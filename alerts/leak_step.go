@@ -55,11 +55,11 @@ func detectStep(p []float64) ReadingStep {
 }
 
 // significantDigits returns the fewest significant digits (1 to 9) that
-// give v back within a relative 1e-9, or 0 when none does.
+// give v back within a relative 1e-12, or 0 when none does.
 func significantDigits(v float64) int {
 	for d := 1; d <= 9; d++ {
 		r, err := strconv.ParseFloat(strconv.FormatFloat(v, 'e', d-1, 64), 64)
-		if err == nil && math.Abs(r-v) <= 1e-9*v {
+		if err == nil && math.Abs(r-v) <= 1e-12*v {
 			return d
 		}
 	}

@@ -92,3 +92,37 @@ func (r *Rise) Reset() { r.t, r.p, r.head = r.t[:0], r.p[:0], 0 }
 func (r *Rise) Analyze(volume float64, opt RiseOptions) (RiseResult, error) {
 	return AnalyzeRise(r.t[r.head:], r.p[r.head:], volume, opt)
 }
+
+// IntervalRates returns dp/dt between successive readings, the hand method
+// of a rate-of-rise test: a leak keeps them constant, outgassing makes them
+// fall. Times must strictly increase.
+func IntervalRates(t, p []float64) ([]float64, error) {
+	if len(t) != len(p) {
+		return nil, fmt.Errorf("%d times but %d pressures: give one pressure per time", len(t), len(p))
+	}
+	if len(t) < 2 {
+		return nil, fmt.Errorf("%d readings: interval rates need at least 2", len(t))
+	}
+	r := make([]float64, len(t)-1)
+	for i := range r {
+		dt := t[i+1] - t[i]
+		if !(dt > 0) {
+			return nil, fmt.Errorf("reading %d at %g s does not follow reading %d at %g s: sort the times", i+1, t[i+1], i, t[i])
+		}
+		r[i] = (p[i+1] - p[i]) / dt
+	}
+	return r, nil
+}
+
+// TwoReadingLeak returns Q = V·(p2 − p1)/(t2 − t1) (Pa·m³/s from m³, Pa and
+// s), the pressure-rise relation of the pressure-change leak test (EN 13184)
+// for two readings of an isolated volume.
+func TwoReadingLeak(volume, t1, p1, t2, p2 float64) (float64, error) {
+	if !(volume > 0) || math.IsInf(volume, 0) {
+		return 0, fmt.Errorf("volume %g m³ is not a positive finite volume", volume)
+	}
+	if !(t2 > t1) || math.IsInf(t2-t1, 0) {
+		return 0, fmt.Errorf("second reading at %g s must come after the first at %g s", t2, t1)
+	}
+	return volume * (p2 - p1) / (t2 - t1), nil
+}
