@@ -25,7 +25,7 @@ type Config struct {
 	Crossover     float64       // Pa: the high stage joins below this; required when High.Speed > 0
 	Leak          float64       // Pa·m³/s, constant real leak at start
 	Bleed         float64       // Pa·m³/s through the bleed valve at start
-	Outgassing    float64       // Pa·m³/s one hour after pumping starts, at ambient temperature
+	Outgassing    float64       // Pa·m³/s one hour after the start (or the last vent), at ambient temperature
 	OutgassingExp float64       // exponent n in t^-n; 0 means 1 (metals)
 	WallTau       time.Duration // heater/wall lag; 0 means 20 min
 	Isolated      bool          // start with the isolation valve closed

@@ -12,6 +12,15 @@
 // chamber for rate-of-rise tests; a heater drives the wall temperature with a
 // first-order lag. A scenario timeline of Events changes these over time.
 //
+// Modelling choices, beyond the textbook gas balance: the outgassing load is
+// q = Q1h·f·(3600 s/age)^n with f = 2^((T_wall − T_ambient)/15 K) (the
+// doubling interval from memory) and age clamped at 60 s; age is a clock that
+// runs f times faster on a hot wall, so a bake first raises the load and then
+// leaves the walls depleted, well below the unbaked curve once cool. The two
+// pump stages act in parallel, each as S·(1 − u/p) above its own base
+// pressure u; the high stage acts only below the crossover. A vent fills the
+// chamber at once.
+//
 // Instruments (Pirani, capacitance diaphragm, ionisation, thermocouple) read
 // the chamber's state the way real ones do, with noise, limits, printed
 // significant digits and failure modes, and implement drivers.Driver.
