@@ -57,6 +57,16 @@ type Driver interface {
 	Read(ctx context.Context) (Reading, error)
 }
 
+// A MultiDriver is a Driver whose one exchange can answer for several gauges
+// (a controller that reports all its channels in one reply). ReadAll returns
+// every reading of one exchange keyed by channel; the daemon runs it once per
+// poll of the link and hands each gauge its channel's reading. Read returns
+// the channel the driver was configured for.
+type MultiDriver interface {
+	Driver
+	ReadAll(ctx context.Context) (map[string]Reading, error)
+}
+
 // A Link carries one request/reply exchange; serial and TCP implement it,
 // so drivers hold framing and parsing only, and tests can script a Link.
 // Exchange writes req (when non-empty) and reads until the byte until has
@@ -86,6 +96,14 @@ type Options struct {
 	Gauge string           // config name, used in errors
 	Now   func() time.Time // the daemon's clock; nil means time.Now
 	Log   *slog.Logger     // nil means discard
+	// Trace, when set, is called with every message the driver sends
+	// (dir "send") and every reply it gets (dir "recv"), including the
+	// partial bytes of a failed exchange; holdfast probe prints them.
+	Trace func(dir string, b []byte)
+
+	ASCII  ASCIIOptions  // driver "ascii"
+	SCPI   SCPIOptions   // driver "scpi"
+	Modbus ModbusOptions // driver "modbus" (see NewModbus)
 }
 
 func (o Options) now() time.Time {
@@ -97,11 +115,17 @@ func (o Options) now() time.Time {
 
 // factories is the complete list of drivers that talk over a Link: adding a
 // driver is one line here, never an init().
-var factories = map[string]func(Link, Options) (Driver, error){}
+var factories = map[string]func(Link, Options) (Driver, error){
+	"ascii": func(l Link, o Options) (Driver, error) { return NewASCII(l, o) },
+	"scpi":  func(l Link, o Options) (Driver, error) { return NewSCPI(l, o) },
+}
 
 // Kinds lists the known driver kinds, sorted.
 func Kinds() []string {
-	kinds := []string{"sim"} // built by the daemon from drivers/sim, which owns its own link
+	kinds := []string{
+		"sim",    // built by the daemon from drivers/sim, which owns its own link
+		"modbus", // owns its transport: built with NewModbus over a ModbusLink
+	}
 	for k := range factories {
 		kinds = append(kinds, k)
 	}
@@ -115,6 +139,9 @@ func Known(kind string) bool { return slices.Contains(Kinds(), kind) }
 // New builds a driver of the given kind over link.
 func New(kind string, link Link, opts Options) (Driver, error) {
 	f, ok := factories[kind]
+	if kind == "modbus" {
+		return nil, errors.New("driver modbus owns its transport: build it with NewModbus over a ModbusLink")
+	}
 	if !ok {
 		return nil, fmt.Errorf("unknown driver %q (known: %s)", kind, strings.Join(Kinds(), ", "))
 	}

@@ -141,6 +141,25 @@ func (l *StreamLink) Exchange(ctx context.Context, req []byte, until byte) ([]by
 	return l.readUntil(ctx, until, deadline)
 }
 
+// Send writes req without waiting for a reply, for commands an instrument
+// does not answer.
+func (l *StreamLink) Send(ctx context.Context, req []byte) error {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+	if l.p == nil {
+		if err := l.reopen(ctx); err != nil {
+			return err
+		}
+	}
+	if err := l.prepare(req); err != nil {
+		return l.fail(err)
+	}
+	return nil
+}
+
 func (l *StreamLink) prepare(req []byte) error {
 	if l.dirty || len(req) > 0 {
 		if err := l.p.discard(); err != nil {

@@ -1,0 +1,67 @@
+package drivers
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"strings"
+)
+
+// RegisterTypes lists the register value types the modbus driver decodes.
+var RegisterTypes = []string{"int16", "uint16", "int32", "uint32", "float32"}
+
+// registerCount returns how many 16-bit registers a value of type typ spans.
+func registerCount(typ string) (uint16, error) {
+	switch typ {
+	case "int16", "uint16":
+		return 1, nil
+	case "int32", "uint32", "float32":
+		return 2, nil
+	}
+	return 0, fmt.Errorf("unknown register type %q (known: %s)", typ, strings.Join(RegisterTypes, ", "))
+}
+
+// DecodeRegisters turns registers as read (each big-endian on the wire, as
+// Modbus sends them) into a number. 32-bit types span two registers;
+// lowWordFirst says the device puts the less significant 16 bits in the
+// first register (the order varies between devices; high word first is the
+// common default). float32 is IEEE 754 binary32; a NaN or infinite float is
+// an error, since no gauge measures one.
+func DecodeRegisters(regs []uint16, typ string, lowWordFirst bool) (float64, error) {
+	n, err := registerCount(typ)
+	if err != nil {
+		return 0, err
+	}
+	if len(regs) != int(n) {
+		return 0, fmt.Errorf("%s needs %d registers, got %d", typ, n, len(regs))
+	}
+	switch typ {
+	case "int16":
+		return float64(int16(regs[0])), nil
+	case "uint16":
+		return float64(regs[0]), nil
+	}
+	hi, lo := regs[0], regs[1]
+	if lowWordFirst {
+		hi, lo = lo, hi
+	}
+	u := uint32(hi)<<16 | uint32(lo)
+	switch typ {
+	case "int32":
+		return float64(int32(u)), nil
+	case "uint32":
+		return float64(u), nil
+	}
+	f := float64(math.Float32frombits(u))
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return 0, fmt.Errorf("registers %04X %04X hold a float32 %v, not a measurement", regs[0], regs[1], f)
+	}
+	return f, nil
+}
+
+// Modbus tables a gauge can read.
+var modbusTables = []string{"holding", "input", "coil", "discrete"}
+
+func isBitTable(t string) bool { return t == "coil" || t == "discrete" }
+
+func validTable(t string) bool { return slices.Contains(modbusTables, t) }
