@@ -92,10 +92,9 @@ func ReadRiseCSV(r io.Reader, name string) (RiseRecord, error) {
 	if len(problems) > 0 {
 		return RiseRecord{}, csvProblems(problems)
 	}
-	if !math.IsInf(step, 1) {
-		rec.Step = step
+	if digits > 0 && !math.IsInf(step, 1) { // continuous values (10+ digits) show no resolution
+		rec.Step, rec.Digits = step, digits
 	}
-	rec.Digits = max(digits, 0)
 	return rec, nil
 }
 
@@ -110,7 +109,7 @@ func csvProblems(p []string) error {
 func parseRiseLine(text string) (t, p float64, ps string, err error) {
 	f := strings.Split(text, ",")
 	if len(f) != 2 {
-		return 0, 0, "", fmt.Errorf("%d fields, want 2 (time_s,pressure)", len(f))
+		return 0, 0, "", fmt.Errorf("%d fields, want 2 separated by a comma (time_s,pressure)", len(f))
 	}
 	ts, ps := strings.TrimSpace(f[0]), strings.TrimSpace(f[1])
 	t, err = strconv.ParseFloat(ts, 64)

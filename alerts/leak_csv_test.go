@@ -50,7 +50,7 @@ func TestReadRiseCSVReportsEveryBadLine(t *testing.T) {
 		{"lines", "time_s,pressure\n0,1\nx,2\n3,NaN\n4\n5,1,2\n6,1e-3 mbar\n", []string{
 			`r.csv:3: time "x" is not a number of seconds`,
 			`r.csv:4: pressure "NaN" is not a number`,
-			`r.csv:5: 1 fields, want 2 (time_s,pressure)`,
+			`r.csv:5: 1 fields, want 2 separated by a comma (time_s,pressure)`,
 			`r.csv:6: 3 fields, want 2`,
 			`r.csv:7: pressure "1e-3 mbar" is not a number`,
 		}},
