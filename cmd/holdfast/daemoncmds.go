@@ -5,26 +5,109 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"log/slog"
 	"runtime/debug"
+	"strings"
+
+	"holdfast/daemon"
 )
 
-func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	return errors.New("demo: not built yet")
-}
-
 func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	return errors.New("run: not built yet")
+	fs := newFlags("run", "--config FILE [flags]", stderr)
+	file := fs.String("config", "", "config `file` (YAML)")
+	level := fs.String("log-level", "info", "log `level`: debug, info, warn or error")
+	if err := fs.Parse(args); err != nil {
+		return err
+	}
+	if *file == "" {
+		fs.Usage()
+		return errUsage("run needs --config FILE")
+	}
+	log, err := newLogger(stderr, *level)
+	if err != nil {
+		return err
+	}
+	cfg, err := daemon.LoadConfig(*file)
+	if err != nil {
+		return configFailed(stderr, err)
+	}
+	d, err := daemon.New(cfg, daemon.Options{Log: log})
+	if err != nil {
+		return err
+	}
+	return d.Run(ctx)
 }
 
 func cmdCheck(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	return errors.New("check: not built yet")
+	fs := newFlags("check", "--config FILE [FILE...]", stderr)
+	file := fs.String("config", "", "config `file` to check; more files may follow as arguments")
+	if err := fs.Parse(args); err != nil {
+		return err
+	}
+	files := fs.Args()
+	if *file != "" {
+		files = append([]string{*file}, files...)
+	}
+	if len(files) == 0 {
+		fs.Usage()
+		return errUsage("check needs --config FILE")
+	}
+	bad := 0
+	for _, f := range files {
+		cfg, err := daemon.LoadConfig(f)
+		if err != nil {
+			bad++
+			fmt.Fprintln(stderr, describeConfigError(err))
+			continue
+		}
+		fmt.Fprintln(stdout, daemon.Summary(cfg))
+	}
+	if bad > 0 {
+		return exitError(1)
+	}
+	return nil
+}
+
+func configFailed(stderr io.Writer, err error) error {
+	var ce *daemon.ConfigError
+	if errors.As(err, &ce) {
+		fmt.Fprintln(stderr, ce.Error())
+		return fmt.Errorf("%s: %d problem(s); fix them and run again (holdfast check --config %s)", ce.File, len(ce.Problems), ce.File)
+	}
+	return err
+}
+
+func describeConfigError(err error) string {
+	var ce *daemon.ConfigError
+	if errors.As(err, &ce) {
+		return ce.Error()
+	}
+	return "holdfast: " + err.Error()
+}
+
+func newLogger(w io.Writer, level string) (*slog.Logger, error) {
+	var l slog.Level
+	if err := l.UnmarshalText([]byte(level)); err != nil {
+		return nil, fmt.Errorf("--log-level: want debug, info, warn or error, got %q", level)
+	}
+	return slog.New(slog.NewTextHandler(w, &slog.HandlerOptions{Level: l})), nil
 }
 
 func cmdVersion(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	v := "(devel)"
-	if bi, ok := debug.ReadBuildInfo(); ok && bi.Main.Version != "" {
-		v = bi.Main.Version
-	}
-	fmt.Fprintf(stdout, "holdfast %s\n", v)
+	fmt.Fprintf(stdout, "holdfast %s\n", buildVersion())
 	return nil
+}
+
+func buildVersion() string {
+	bi, ok := debug.ReadBuildInfo()
+	if !ok {
+		return "(unknown)"
+	}
+	v := bi.Main.Version
+	for _, s := range bi.Settings {
+		if s.Key == "vcs.revision" && len(s.Value) >= 12 {
+			v += " " + s.Value[:12]
+		}
+	}
+	return strings.TrimSpace(v + " " + bi.GoVersion)
 }

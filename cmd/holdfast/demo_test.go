@@ -1,0 +1,60 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// The built-in scenario is the shipped example, byte for byte, so users who
+// copy deploy/examples/demo.yaml get what the demo runs.
+func TestDemoConfigMatchesExample(t *testing.T) {
+	want, err := os.ReadFile(filepath.Join("..", "..", "deploy", "examples", "demo.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(demoConfig, want) {
+		t.Fatal("cmd/holdfast/demo.yaml differs from deploy/examples/demo.yaml; copy the example over it")
+	}
+}
+
+// The demo runs end to end and exits cleanly when its time is up, printing
+// events and a summary with stored samples.
+func TestDemoRunsAndSummarises(t *testing.T) {
+	var out, errOut bytes.Buffer
+	dir := t.TempDir()
+	err := run(context.Background(), []string{"demo", "--for", "1500ms", "--speed", "3000",
+		"--listen", "127.0.0.1:0", "--data", dir}, &out, &errOut)
+	if err != nil {
+		t.Fatalf("demo: %v\nstderr:\n%s", err, errOut.String())
+	}
+	got := out.String()
+	for _, want := range []string{"gauge-up", "rough-pirani", "summary after", "samples stored", "all gauges"} {
+		if !strings.Contains(got, want) {
+			t.Errorf("demo output lacks %q:\n%s", want, got)
+		}
+	}
+	if _, err := os.Stat(filepath.Join(dir, "holdfast.db")); err != nil {
+		t.Errorf("--data directory has no store: %v", err)
+	}
+}
+
+func TestCheckCommand(t *testing.T) {
+	var out, errOut bytes.Buffer
+	err := run(context.Background(), []string{"check", "--config", filepath.Join("..", "..", "deploy", "examples", "demo.yaml")}, &out, &errOut)
+	if err != nil || !strings.Contains(out.String(), ": ok: chamber demo-bake") {
+		t.Errorf("check of the demo: err %v, out %q, stderr %q", err, out.String(), errOut.String())
+	}
+	out.Reset()
+	errOut.Reset()
+	err = run(context.Background(), []string{"check", "--config", filepath.Join("..", "..", "testdata", "config", "several-mistakes.yaml")}, &out, &errOut)
+	if code, ok := err.(exitError); !ok || code != 1 {
+		t.Errorf("check of a bad file: err %v, want exit status 1", err)
+	}
+	if n := strings.Count(errOut.String(), "several-mistakes.yaml:"); n < 10 {
+		t.Errorf("check named %d problems, want every one:\n%s", n, errOut.String())
+	}
+}

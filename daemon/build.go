@@ -1,0 +1,152 @@
+package daemon
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"time"
+
+	"holdfast/alerts"
+	"holdfast/calib"
+	"holdfast/drivers/sim"
+)
+
+// buildGauges opens every link's drivers and gives each gauge its transfer.
+func (d *Daemon) buildGauges() error {
+	var errs []error
+	byLink := map[string]*link{}
+	for _, name := range sortedKeys(d.cfg.Links) {
+		l, err := d.buildLink(name, d.cfg.Links[name])
+		if err != nil {
+			errs = append(errs, fmt.Errorf("link %s: %w", name, err))
+			continue
+		}
+		byLink[name] = l
+	}
+	for _, name := range sortedKeys(d.cfg.Gauges) {
+		gc := d.cfg.Gauges[name]
+		l := byLink[gc.Link]
+		if l == nil {
+			continue // its link failed; already reported
+		}
+		g, err := d.buildGauge(name, gc, l)
+		if err != nil {
+			errs = append(errs, fmt.Errorf("gauge %s: %w", name, err))
+			continue
+		}
+		l.gauges = append(l.gauges, g)
+		d.gauges = append(d.gauges, g)
+	}
+	for _, name := range sortedKeys(byLink) {
+		if l := byLink[name]; len(l.gauges) > 0 {
+			d.links = append(d.links, l)
+		}
+	}
+	return errors.Join(errs...)
+}
+
+func (d *Daemon) buildLink(name string, lc *LinkConfig) (*link, error) {
+	l := &link{name: name}
+	switch {
+	case lc.Simulator != nil:
+		ch, err := sim.New(simConfig(d.cfg, lc.Simulator), d.clock.Now)
+		if err != nil {
+			return nil, err
+		}
+		l.sim = ch
+	default:
+		return nil, errors.New("no link kind set")
+	}
+	return l, nil
+}
+
+func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, error) {
+	dim := gaugeDim(gc.Kind)
+	unit, err := calib.ParseUnit(gc.Unit, dim)
+	if err != nil {
+		return nil, err
+	}
+	g := &gauge{name: name, cfg: gc, dim: dim, unit: unit, transfer: calib.Identity{}}
+	switch gc.Driver {
+	case "sim":
+		if l.sim == nil {
+			return nil, errors.New("driver sim needs a simulator link")
+		}
+		in, err := l.sim.Instrument(sim.InstrumentConfig{
+			Name: name, Kind: gc.Instrument, Digits: gc.Digits, FullScale: float64(gc.FullScale), Where: gc.Where, Protect: float64(gc.Protect),
+			Timeout: time.Hour, // a silent instrument waits for the daemon's own read timeout
+		})
+		if err != nil {
+			return nil, err
+		}
+		g.drv = in
+		g.transfer = in.Transfer() // the instrument's own curve, as its maker ships it
+	default:
+		return nil, fmt.Errorf("driver %q is not wired into the daemon yet", gc.Driver)
+	}
+	return g, nil
+}
+
+func simConfig(cfg *Config, s *SimConfig) sim.Config {
+	c := sim.Config{
+		Volume:        float64(cfg.Chamber.Volume),
+		StartPressure: float64(s.StartPressure),
+		AmbientC:      float64(s.Ambient),
+		Rough:         sim.Pump{Speed: float64(s.RoughPump.Speed), Ultimate: float64(s.RoughPump.Ultimate)},
+		High:          sim.Pump{Speed: float64(s.HighPump.Speed), Ultimate: float64(s.HighPump.Ultimate)},
+		Crossover:     float64(s.Crossover),
+		Leak:          float64(s.Leak),
+		Outgassing:    float64(s.Outgassing),
+		OutgassingExp: s.OutgassingExp,
+		WallTau:       s.WallLag.D(),
+		Seed:          s.Seed,
+	}
+	for _, st := range s.Timeline {
+		c.Events = append(c.Events, simEvent(st))
+	}
+	return c
+}
+
+func simEvent(st *SimStep) sim.Event {
+	ev := sim.Event{After: st.After.D()}
+	switch {
+	case st.Bake != nil:
+		ev.Action, ev.Value = "bake", float64(*st.Bake)
+	case st.Leak != nil:
+		ev.Action, ev.Value = "leak", float64(*st.Leak)
+	case st.Bleed != nil:
+		ev.Action, ev.Value = "bleed", float64(*st.Bleed)
+	case st.Valve == "closed":
+		ev.Action = "isolate"
+	case st.Valve == "open":
+		ev.Action = "reopen"
+	case st.Pump != "":
+		ev.Action = "pump-" + st.Pump
+	case st.Fail != nil:
+		ev.Action, ev.Target, ev.Mode = "fail", st.Fail.Gauge, st.Fail.Mode
+	case st.Vent != nil:
+		ev.Action, ev.Value = "vent", float64(*st.Vent)
+	case st.Recover != "":
+		ev.Action, ev.Target = "recover", st.Recover
+	}
+	return ev
+}
+
+// limits turns the config's alarms into rules.
+func (d *Daemon) limits() []*alerts.Limit {
+	var out []*alerts.Limit
+	for _, a := range d.cfg.Alarms {
+		g := d.cfg.Gauges[a.Gauge]
+		unit, _ := calib.ParseUnit(g.Unit, gaugeDim(g.Kind))
+		l := &alerts.Limit{Name: a.Name, Gauge: a.Gauge, Above: math.NaN(), Below: math.NaN(),
+			OnDelay: a.For.D(), Severity: alerts.Severity(a.Severity), Unit: unit, WaitForNormal: a.WaitForNormal}
+		if a.hasAbove {
+			l.Above = a.above
+		}
+		if a.hasBelow {
+			l.Below = a.below
+		}
+		out = append(out, l)
+	}
+	return out
+}

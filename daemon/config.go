@@ -1,0 +1,125 @@
+package daemon
+
+import (
+	"time"
+)
+
+// Config is one holdfast configuration file, decoded. Quantities are in SI
+// (Pa, m³, m³/s, Pa·m³/s, °C); durations are time.Duration.
+type Config struct {
+	File    string                  `yaml:"-"`
+	Chamber ChamberConfig           `yaml:"chamber"`
+	HTTP    HTTPConfig              `yaml:"http"`
+	Store   StoreConfig             `yaml:"store"`
+	Links   map[string]*LinkConfig  `yaml:"links"`
+	Gauges  map[string]*GaugeConfig `yaml:"gauges"`
+	Alarms  []*AlarmConfig          `yaml:"alarms"`
+
+	lines map[string]int // config path -> line, for problems found after loading
+}
+
+// ChamberConfig describes the vacuum vessel the gauges watch.
+type ChamberConfig struct {
+	Name   string `yaml:"name"`
+	Volume Volume `yaml:"volume"` // m³; needed for leak rates (Q = V·dp/dt)
+}
+
+// HTTPConfig says where the daemon serves metrics and its API.
+type HTTPConfig struct {
+	Listen string `yaml:"listen"` // host:port; default 127.0.0.1:9781
+}
+
+// StoreConfig says where samples are kept.
+type StoreConfig struct {
+	Dir        string   `yaml:"dir"`         // data directory; holds holdfast.db
+	FlushEvery Duration `yaml:"flush_every"` // batch interval; default 1s
+}
+
+// LinkConfig is one physical connection. Exactly one kind is set.
+type LinkConfig struct {
+	Simulator *SimConfig `yaml:"simulator"`
+}
+
+// SimConfig describes a simulated chamber served as a link; its gauges use
+// driver "sim". The chamber's volume comes from chamber.volume.
+type SimConfig struct {
+	StartPressure Pressure    `yaml:"start_pressure"` // default 1 atm
+	Ambient       Temperature `yaml:"ambient"`        // default 22 °C
+	RoughPump     SimPump     `yaml:"rough_pump"`
+	HighPump      SimPump     `yaml:"high_pump"`
+	Crossover     Pressure    `yaml:"crossover"`  // the high-vacuum stage joins below this
+	Leak          Throughput  `yaml:"leak"`       // real leak at start
+	Outgassing    Throughput  `yaml:"outgassing"` // one hour after pumping starts, at ambient
+	OutgassingExp float64     `yaml:"outgassing_exponent"`
+	WallLag       Duration    `yaml:"wall_lag"` // heater-to-wall time constant
+	Seed          int64       `yaml:"seed"`
+	Timeline      []*SimStep  `yaml:"timeline"`
+}
+
+// SimPump is one pumping stage of a simulated chamber.
+type SimPump struct {
+	Speed    Speed    `yaml:"speed"`
+	Ultimate Pressure `yaml:"ultimate"`
+}
+
+// SimStep is one scheduled change to a simulated chamber. Exactly one action
+// key besides after is set.
+type SimStep struct {
+	After   Duration     `yaml:"after"`
+	Bake    *Temperature `yaml:"bake"`    // heater setpoint
+	Leak    *Throughput  `yaml:"leak"`    // set the real leak
+	Bleed   *Throughput  `yaml:"bleed"`   // set the bleed valve
+	Valve   string       `yaml:"valve"`   // "closed" isolates the pump, "open" reopens
+	Pump    string       `yaml:"pump"`    // "off" or "on"
+	Fail    *SimFault    `yaml:"fail"`    // an instrument stops answering or reports a fault
+	Recover string       `yaml:"recover"` // gauge name: the instrument works again
+	Vent    *Pressure    `yaml:"vent"`    // fill the chamber to this pressure at once
+}
+
+// SimFault makes one simulated instrument misbehave.
+type SimFault struct {
+	Gauge string `yaml:"gauge"`
+	Mode  string `yaml:"mode"` // "silent" or "fault"
+}
+
+// GaugeConfig is one measured channel. Its name is the metrics' gauge label.
+type GaugeConfig struct {
+	Link     string   `yaml:"link"`
+	Driver   string   `yaml:"driver"`   // see drivers.Kinds
+	Interval Duration `yaml:"interval"` // default 1s
+	Timeout  Duration `yaml:"timeout"`  // per read; default min(interval, 2s)
+	Kind     string   `yaml:"kind"`     // pressure | temperature
+	Unit     string   `yaml:"unit"`     // display unit; metrics stay SI
+
+	// Simulated instruments (driver: sim).
+	Instrument string   `yaml:"instrument"` // pirani | cdg | ion | thermocouple
+	FullScale  Pressure `yaml:"full_scale"` // cdg
+	Digits     int      `yaml:"digits"`     // significant digits the instrument prints
+	Where      string   `yaml:"where"`      // thermocouple: wall | ambient
+	Protect    Pressure `yaml:"protect"`    // ion: switches itself off above this; default 1e-2 Pa
+}
+
+// AlarmConfig is one alarm rule.
+type AlarmConfig struct {
+	Name     string   `yaml:"name"`
+	Gauge    string   `yaml:"gauge"`
+	Above    Text     `yaml:"above"` // a pressure or temperature, by the gauge's kind
+	Below    Text     `yaml:"below"`
+	For      Duration `yaml:"for"` // on-delay: the condition must hold this long
+	Severity string   `yaml:"severity"`
+	// WaitForNormal arms the alarm only once the value has been within its
+	// limits (after a pump-down, say).
+	WaitForNormal bool `yaml:"wait_for_normal"`
+
+	above, below float64 // SI, resolved by the checker
+	hasAbove     bool
+	hasBelow     bool
+}
+
+// Defaults for optional settings.
+const (
+	DefaultListen     = "127.0.0.1:9781"
+	defaultInterval   = time.Second
+	minInterval       = 10 * time.Millisecond
+	defaultFlushEvery = time.Second
+)

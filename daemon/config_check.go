@@ -1,0 +1,235 @@
+package daemon
+
+import (
+	"cmp"
+	"fmt"
+	"net"
+	"slices"
+	"strings"
+	"time"
+
+	"holdfast/calib"
+	"holdfast/drivers"
+)
+
+// checker collects problems; its methods never stop at the first one.
+type checker struct {
+	cfg   *Config
+	probs []Problem
+}
+
+func (v *checker) line(path string) int {
+	for p := path; p != ""; {
+		if l, ok := v.cfg.lines[p]; ok {
+			return l
+		}
+		i := strings.LastIndexAny(p, ".[")
+		if i < 0 {
+			break
+		}
+		p = p[:i]
+	}
+	return 1
+}
+
+// problem records one problem per path: a second complaint about a value
+// already reported (a bad unit, then "must be positive") only adds noise.
+func (v *checker) problem(path, format string, a ...any) {
+	for _, p := range v.probs {
+		if p.Path == path {
+			return
+		}
+	}
+	v.probs = append(v.probs, Problem{Line: v.line(path), Path: path, Msg: fmt.Sprintf(format, a...)})
+}
+
+func (v *checker) expect(ok bool, path, format string, a ...any) {
+	if !ok {
+		v.problem(path, format, a...)
+	}
+}
+
+var (
+	gaugeKinds     = []string{"pressure", "temperature"}
+	severities     = []string{"low", "medium", "high", "critical"}
+	simInstruments = []string{"pirani", "cdg", "ion", "thermocouple"}
+)
+
+// check fills defaults and reports every semantic problem.
+func check(cfg *Config, prior []Problem) []Problem {
+	v := &checker{cfg: cfg, probs: prior}
+	v.expect(cfg.Chamber.Name != "", "chamber.name", "missing; give the chamber a name, e.g. name: bakeout-3")
+	v.expect(cfg.Chamber.Volume > 0, "chamber.volume", "must be a positive volume such as 30 L, got %g m3", float64(cfg.Chamber.Volume))
+	if cfg.HTTP.Listen == "" {
+		cfg.HTTP.Listen = DefaultListen
+	} else if _, _, err := net.SplitHostPort(cfg.HTTP.Listen); err != nil {
+		v.problem("http.listen", "want host:port such as 127.0.0.1:9781, got %q", cfg.HTTP.Listen)
+	}
+	v.expect(cfg.Store.Dir != "", "store.dir", "missing; say where samples are kept, e.g. dir: /var/lib/holdfast")
+	if cfg.Store.FlushEvery == 0 {
+		cfg.Store.FlushEvery = Duration(defaultFlushEvery)
+	}
+	v.expect(len(cfg.Links) > 0, "links", "no links; define at least one (serial, tcp or simulator)")
+	for _, name := range sortedKeys(cfg.Links) {
+		v.link(name, cfg.Links[name])
+	}
+	v.expect(len(cfg.Gauges) > 0, "gauges", "no gauges; define at least one")
+	for _, name := range sortedKeys(cfg.Gauges) {
+		v.gauge(name, cfg.Gauges[name])
+	}
+	seen := map[string]int{}
+	for i, a := range cfg.Alarms {
+		v.alarm(fmt.Sprintf("alarms[%d]", i), a, seen, i)
+	}
+	return v.probs
+}
+
+func (v *checker) link(name string, l *LinkConfig) {
+	path := "links." + name
+	if l == nil || l.Simulator == nil {
+		v.problem(path, "say what the link is: simulator (serial and tcp links come with the hardware drivers)")
+		return
+	}
+	v.sim(path+".simulator", l.Simulator)
+}
+
+func (v *checker) sim(path string, s *SimConfig) {
+	if s.StartPressure == 0 {
+		s.StartPressure = 101325
+	}
+	if s.Ambient == 0 {
+		s.Ambient = 22
+	}
+	v.expect(s.StartPressure > 0, path+".start_pressure", "must be positive, e.g. 1 atm")
+	v.expect(s.RoughPump.Speed > 0, path+".rough_pump.speed", "missing or not positive; e.g. speed: 5 m3/h")
+	v.expect(s.RoughPump.Ultimate >= 0, path+".rough_pump.ultimate", "must not be negative")
+	v.expect(s.HighPump.Speed >= 0, path+".high_pump.speed", "must not be negative")
+	v.expect(s.HighPump.Speed == 0 || s.Crossover > 0, path+".crossover",
+		"a high-vacuum stage needs the pressure below which it joins, e.g. crossover: 5 Pa")
+	v.expect(s.Leak >= 0 && s.Outgassing >= 0, path, "leak and outgassing must not be negative")
+	for i, st := range s.Timeline {
+		v.simStep(fmt.Sprintf("%s.timeline[%d]", path, i), st)
+	}
+}
+
+func (v *checker) simStep(path string, st *SimStep) {
+	n := 0
+	for _, set := range []bool{st.Bake != nil, st.Leak != nil, st.Bleed != nil, st.Valve != "", st.Pump != "", st.Fail != nil, st.Recover != "", st.Vent != nil} {
+		if set {
+			n++
+		}
+	}
+	v.expect(n == 1, path, "want exactly one action (bake, leak, bleed, valve, pump, vent, fail or recover) besides after, got %d", n)
+	v.expect(st.After >= 0, path+".after", "must not be negative")
+	v.expect(st.Valve == "" || st.Valve == "open" || st.Valve == "closed", path+".valve", "want open or closed, got %q", st.Valve)
+	v.expect(st.Pump == "" || st.Pump == "on" || st.Pump == "off", path+".pump", "want on or off, got %q", st.Pump)
+	if st.Fail != nil {
+		v.expect(st.Fail.Mode == "silent" || st.Fail.Mode == "fault", path+".fail.mode",
+			"want silent (stops answering) or fault (reports a sensor fault), got %q", st.Fail.Mode)
+		v.simGauge(path+".fail.gauge", st.Fail.Gauge)
+	}
+	if st.Recover != "" {
+		v.simGauge(path+".recover", st.Recover)
+	}
+}
+
+func (v *checker) simGauge(path, name string) {
+	g, ok := v.cfg.Gauges[name]
+	v.expect(ok && g != nil && g.Driver == "sim", path, "%q is not a simulated gauge (known: %s)", name, strings.Join(v.gaugesWhere(func(g *GaugeConfig) bool { return g.Driver == "sim" }), ", "))
+}
+
+func (v *checker) gaugesWhere(f func(*GaugeConfig) bool) []string {
+	var names []string
+	for _, n := range sortedKeys(v.cfg.Gauges) {
+		if g := v.cfg.Gauges[n]; g != nil && f(g) {
+			names = append(names, n)
+		}
+	}
+	return names
+}
+
+func (v *checker) gauge(name string, g *GaugeConfig) {
+	path := "gauges." + name
+	if g == nil {
+		v.problem(path, "empty; a gauge needs at least link, driver and kind")
+		return
+	}
+	l, ok := v.cfg.Links[g.Link]
+	v.expect(ok, path+".link", "unknown link %q (known: %s)", g.Link, strings.Join(sortedKeys(v.cfg.Links), ", "))
+	v.expect(drivers.Known(g.Driver), path+".driver", "unknown driver %q (known: %s)", g.Driver, strings.Join(drivers.Kinds(), ", "))
+	if g.Interval == 0 {
+		g.Interval = Duration(defaultInterval)
+	}
+	v.expect(g.Interval.D() >= minInterval, path+".interval", "must be at least %s, got %s", minInterval, g.Interval.D())
+	if g.Timeout == 0 {
+		g.Timeout = Duration(min(g.Interval.D(), 2*time.Second))
+	}
+	v.expect(slices.Contains(gaugeKinds, g.Kind), path+".kind", "want %s, got %q", strings.Join(gaugeKinds, " or "), g.Kind)
+	dim := gaugeDim(g.Kind)
+	if g.Unit == "" {
+		g.Unit = map[calib.Dimension]string{calib.Pressure: "Pa", calib.Temperature: "C"}[dim]
+	} else if _, err := calib.ParseUnit(g.Unit, dim); err != nil && dim != 0 {
+		v.problem(path+".unit", "%v", err)
+	}
+	if g.Driver == "sim" {
+		v.expect(ok && l != nil && l.Simulator != nil, path+".link", "driver sim needs a simulator link")
+		v.expect(slices.Contains(simInstruments, g.Instrument), path+".instrument", "want one of %s, got %q", strings.Join(simInstruments, ", "), g.Instrument)
+		v.expect(g.Instrument != "cdg" || g.FullScale > 0, path+".full_scale", "a capacitance gauge needs its full scale, e.g. full_scale: 1000 Pa")
+		wantKind := map[string]string{"pirani": "pressure", "cdg": "pressure", "ion": "pressure", "thermocouple": "temperature"}[g.Instrument]
+		v.expect(wantKind == "" || g.Kind == wantKind, path+".kind", "a %s measures %s, got kind %q", g.Instrument, wantKind, g.Kind)
+		v.expect(g.Digits >= 0 && g.Digits <= 15, path+".digits", "want 1 to 15 significant digits, got %d", g.Digits)
+	}
+}
+
+func gaugeDim(kind string) calib.Dimension {
+	switch kind {
+	case "pressure":
+		return calib.Pressure
+	case "temperature":
+		return calib.Temperature
+	}
+	return 0
+}
+
+func (v *checker) alarm(path string, a *AlarmConfig, seen map[string]int, i int) {
+	if a == nil {
+		v.problem(path, "empty alarm; want name, gauge and a limit")
+		return
+	}
+	v.expect(a.Name != "", path+".name", "missing; every alarm needs a name")
+	if j, dup := seen[a.Name]; dup && a.Name != "" {
+		v.problem(path+".name", "alarm %q is already defined at alarms[%d]", a.Name, j)
+	}
+	seen[a.Name] = i
+	g, ok := v.cfg.Gauges[a.Gauge]
+	v.expect(ok, path+".gauge", "unknown gauge %q (known: %s)", a.Gauge, strings.Join(sortedKeys(v.cfg.Gauges), ", "))
+	v.expect(a.Above.Set || a.Below.Set, path, "say when it fires: above or below a limit")
+	if a.Severity == "" {
+		a.Severity = "medium"
+	}
+	v.expect(slices.Contains(severities, a.Severity), path+".severity", "want one of %s, got %q", strings.Join(severities, ", "), a.Severity)
+	v.expect(a.For >= 0, path+".for", "must not be negative")
+	if !ok || g == nil || gaugeDim(g.Kind) == 0 {
+		return
+	}
+	a.above, a.hasAbove = v.limit(path+".above", a.Above, gaugeDim(g.Kind))
+	a.below, a.hasBelow = v.limit(path+".below", a.Below, gaugeDim(g.Kind))
+	v.expect(!a.hasAbove || !a.hasBelow || a.below < a.above, path,
+		"below must be less than above, or the alarm is always active")
+}
+
+func (v *checker) limit(path string, t Text, dim calib.Dimension) (float64, bool) {
+	if !t.Set {
+		return 0, false
+	}
+	x, err := calib.Parse(t.Value, dim)
+	if err != nil {
+		v.probs = append(v.probs, Problem{Line: t.Line, Path: path, Msg: err.Error()})
+		return 0, false
+	}
+	return x, true
+}
+
+func sortProblems(p []Problem) {
+	slices.SortStableFunc(p, func(a, b Problem) int { return cmp.Compare(a.Line, b.Line) })
+}

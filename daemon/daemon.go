@@ -1,0 +1,189 @@
+package daemon
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"log/slog"
+	"net"
+	"net/http"
+	"os"
+	"path/filepath"
+	"slices"
+	"sync"
+	"time"
+
+	"holdfast/alerts"
+	"holdfast/daemon/store"
+)
+
+// A Clock gives the daemon every timestamp and every delay. In production it
+// is the wall clock; the demo passes the simulator's faster clock.
+type Clock interface {
+	Now() time.Time
+	After(d time.Duration) <-chan time.Time
+}
+
+type wallClock struct{}
+
+func (wallClock) Now() time.Time                         { return time.Now() }
+func (wallClock) After(d time.Duration) <-chan time.Time { return time.After(d) }
+
+// An Event is one thing a person watching the daemon wants to see: a gauge
+// coming up or going down, a limit crossed, an alarm raised or cleared.
+type Event struct {
+	At       time.Time
+	Kind     string // gauge-up, gauge-down, limit-crossed, alarm-raised, alarm-cleared
+	Gauge    string
+	Alarm    string
+	Severity string
+	Message  string
+}
+
+// Options configure a Daemon beyond its config file.
+type Options struct {
+	Log     *slog.Logger // nil discards
+	Clock   Clock        // nil is the wall clock
+	OnEvent func(Event)  // called from pollers; must not block for long
+}
+
+// A Daemon polls every gauge of one config and serves what it reads.
+type Daemon struct {
+	cfg    *Config
+	log    *slog.Logger
+	clock  Clock
+	emit   func(Event)
+	store  *store.DB
+	links  []*link
+	gauges []*gauge // sorted by name
+	alarms *alerts.Engine
+	met    *metrics
+	ln     net.Listener
+
+	flushMu  sync.Mutex
+	flushErr error
+}
+
+// StorePath is the bbolt file inside a data directory.
+func StorePath(dir string) string { return filepath.Join(dir, "holdfast.db") }
+
+// New builds a daemon: it opens the store and the links' drivers and binds
+// the HTTP listener, so that every startup problem is reported before Run.
+func New(cfg *Config, opt Options) (d *Daemon, err error) {
+	d = &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent}
+	if d.log == nil {
+		d.log = slog.New(slog.DiscardHandler)
+	}
+	if d.clock == nil {
+		d.clock = wallClock{}
+	}
+	if d.emit == nil {
+		d.emit = func(Event) {}
+	}
+	if err := d.buildGauges(); err != nil {
+		return nil, err
+	}
+	d.alarms = alerts.NewEngine(d.limits())
+	if err := os.MkdirAll(cfg.Store.Dir, 0o750); err != nil {
+		return nil, fmt.Errorf("data directory: %w", err)
+	}
+	if d.store, err = store.Open(StorePath(cfg.Store.Dir), store.Options{}); err != nil {
+		return nil, err
+	}
+	d.met = newMetrics(d)
+	if d.ln, err = net.Listen("tcp", cfg.HTTP.Listen); err != nil {
+		return nil, errors.Join(fmt.Errorf("http listen: %w", err), d.store.Close())
+	}
+	return d, nil
+}
+
+// Addr is the address the HTTP server listens on.
+func (d *Daemon) Addr() string { return d.ln.Addr().String() }
+
+// Run polls until ctx is done and returns only after its goroutines have
+// exited and the store has been flushed and closed.
+func (d *Daemon) Run(parent context.Context) error {
+	ctx, cancel := context.WithCancelCause(parent)
+	defer cancel(nil)
+	var wg sync.WaitGroup
+	for _, l := range d.links {
+		wg.Go(func() { d.pollLink(ctx, l) })
+	}
+	srv := &http.Server{Handler: d.handler(), ReadHeaderTimeout: 5 * time.Second}
+	wg.Go(func() {
+		if err := srv.Serve(d.ln); !errors.Is(err, http.ErrServerClosed) {
+			cancel(fmt.Errorf("http: %w", err))
+		}
+	})
+	wg.Go(func() { d.flushLoop(ctx) })
+	d.log.Info("daemon started", "chamber", d.cfg.Chamber.Name, "gauges", len(d.gauges), "listen", d.Addr())
+	<-ctx.Done()
+	shut, done := context.WithTimeout(context.Background(), 3*time.Second)
+	httpErr := srv.Shutdown(shut)
+	done()
+	wg.Wait()
+	err := context.Cause(ctx)
+	if parent.Err() != nil {
+		err = nil // asked to stop, or the caller's time is up
+	}
+	err = errors.Join(err, httpErr, d.store.Close())
+	d.log.Info("daemon stopped")
+	return err
+}
+
+func (d *Daemon) flushLoop(ctx context.Context) {
+	t := time.NewTicker(d.cfg.Store.FlushEvery.D())
+	defer t.Stop()
+	for {
+		select {
+		case <-ctx.Done():
+			d.flush()
+			return
+		case <-t.C:
+			d.flush()
+		}
+	}
+}
+
+func (d *Daemon) flush() {
+	err := d.store.Flush()
+	d.flushMu.Lock()
+	was := d.flushErr
+	d.flushErr = err
+	d.flushMu.Unlock()
+	switch {
+	case err != nil && was == nil:
+		d.log.Error("store writes failing; samples are kept in memory and retried", "err", err)
+	case err == nil && was != nil:
+		d.log.Info("store writes working again")
+	}
+}
+
+// CountSamples opens the store in dir read-only and counts the samples kept
+// for each of the named gauges. It fails fast while a daemon holds the file.
+func CountSamples(dir string, gauges []string) (counts map[string]int, err error) {
+	db, err := store.Open(StorePath(dir), store.Options{ReadOnly: true})
+	if err != nil {
+		return nil, err
+	}
+	defer func() { err = errors.Join(err, db.Close()) }()
+	counts = map[string]int{}
+	for _, g := range gauges {
+		if counts[g], err = db.Count(g); err != nil {
+			return nil, fmt.Errorf("count %s: %w", g, err)
+		}
+	}
+	return counts, nil
+}
+
+// Alarms returns every alarm's status.
+func (d *Daemon) Alarms() []alerts.AlarmStatus { return d.alarms.Status() }
+
+// GaugeNames lists the configured gauges, sorted.
+func (d *Daemon) GaugeNames() []string {
+	names := make([]string, len(d.gauges))
+	for i, g := range d.gauges {
+		names[i] = g.name
+	}
+	return slices.Clip(names)
+}

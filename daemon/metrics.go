@@ -1,0 +1,123 @@
+package daemon
+
+import (
+	"github.com/prometheus/client_golang/prometheus"
+	"github.com/prometheus/client_golang/prometheus/collectors"
+	"github.com/prometheus/client_golang/prometheus/collectors/version"
+
+	"holdfast/calib"
+)
+
+// metrics is the daemon's own registry: no globals, no default registry.
+type metrics struct {
+	reg        *prometheus.Registry
+	polls      *prometheus.CounterVec
+	pollErrors *prometheus.CounterVec
+	skipped    *prometheus.CounterVec
+}
+
+func newMetrics(d *Daemon) *metrics {
+	m := &metrics{
+		reg: prometheus.NewRegistry(),
+		polls: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "holdfast_polls_total", Help: "Polls attempted, per gauge.",
+		}, []string{"gauge"}),
+		pollErrors: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "holdfast_poll_errors_total", Help: "Polls that got no usable answer, per gauge and reason (no-reply, bad-reply, link).",
+		}, []string{"gauge", "reason"}),
+		skipped: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "holdfast_polls_skipped_total", Help: "Scheduled polls skipped because the link was busy past their time.",
+		}, []string{"gauge"}),
+	}
+	for _, g := range d.gauges {
+		m.polls.WithLabelValues(g.name)
+		m.skipped.WithLabelValues(g.name)
+		for _, r := range []string{"no-reply", "bad-reply", "link"} {
+			m.pollErrors.WithLabelValues(g.name, r)
+		}
+	}
+	m.reg.MustRegister(
+		collectors.NewGoCollector(),
+		collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}),
+		version.NewCollector("holdfast"),
+		m.polls, m.pollErrors, m.skipped,
+		&liveCollector{d: d},
+	)
+	return m
+}
+
+var (
+	descPressure = prometheus.NewDesc("holdfast_pressure_pascals",
+		"Last valid pressure read by the poller, after calibration. Absent while the gauge has no valid reading.",
+		[]string{"gauge"}, nil)
+	descTemperature = prometheus.NewDesc("holdfast_temperature_celsius",
+		"Last valid temperature read by the poller. Absent while the gauge has no valid reading.",
+		[]string{"gauge"}, nil)
+	descUp = prometheus.NewDesc("holdfast_gauge_up",
+		"1 if the gauge answered its last polls and reports no sensor fault, else 0.",
+		[]string{"gauge"}, nil)
+	descQuality = prometheus.NewDesc("holdfast_gauge_quality",
+		"1 for the quality of the gauge's last sample (ok, over-range, under-range, sensor-fault, off), 0 for the others.",
+		[]string{"gauge", "quality"}, nil)
+	descLast = prometheus.NewDesc("holdfast_last_sample_timestamp_seconds",
+		"Unix time of the gauge's last sample, on the daemon's clock.",
+		[]string{"gauge"}, nil)
+	descAlarmActive = prometheus.NewDesc("holdfast_alarm_active",
+		"1 while the alarm's condition has held past its on-delay, else 0.",
+		[]string{"alarm", "gauge", "severity"}, nil)
+	descAlarmRaised = prometheus.NewDesc("holdfast_alarms_raised_total",
+		"Times the alarm was raised since the daemon started.",
+		[]string{"alarm", "gauge", "severity"}, nil)
+	descStoreErr = prometheus.NewDesc("holdfast_store_flush_failing",
+		"1 while writes to the sample store fail (samples are held in memory and retried), else 0.",
+		nil, nil)
+)
+
+// liveCollector builds fresh metrics from the pollers' last samples on
+// every scrape, so a gauge that stops answering drops its value instead of
+// exporting a stale one.
+type liveCollector struct{ d *Daemon }
+
+func (c *liveCollector) Describe(ch chan<- *prometheus.Desc) {
+	for _, d := range []*prometheus.Desc{descPressure, descTemperature, descUp, descQuality, descLast, descAlarmActive, descAlarmRaised, descStoreErr} {
+		ch <- d
+	}
+}
+
+func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
+	now := c.d.clock.Now()
+	for _, g := range c.d.gauges {
+		v := g.view(now)
+		ch <- prometheus.MustNewConstMetric(descUp, prometheus.GaugeValue, b2f(v.up && !v.stale), v.name)
+		if !v.seen {
+			continue
+		}
+		ch <- prometheus.MustNewConstMetric(descLast, prometheus.GaugeValue, float64(v.last.At.UnixNano())/1e9, v.name)
+		for q := calib.QualityOK; q <= calib.QualityOff; q++ {
+			ch <- prometheus.MustNewConstMetric(descQuality, prometheus.GaugeValue, b2f(v.last.Quality == q), v.name, q.String())
+		}
+		if v.last.Quality != calib.QualityOK || v.stale || !v.up {
+			continue
+		}
+		desc := descPressure
+		if v.kind == "temperature" {
+			desc = descTemperature
+		}
+		ch <- prometheus.MustNewConstMetric(desc, prometheus.GaugeValue, v.last.Value, v.name)
+	}
+	for _, a := range c.d.alarms.Status() {
+		ch <- prometheus.MustNewConstMetric(descAlarmActive, prometheus.GaugeValue, b2f(a.Active), a.Alarm, a.Gauge, string(a.Severity))
+		ch <- prometheus.MustNewConstMetric(descAlarmRaised, prometheus.CounterValue, float64(a.Raised), a.Alarm, a.Gauge, string(a.Severity))
+	}
+	c.d.flushMu.Lock()
+	failing := c.d.flushErr != nil
+	c.d.flushMu.Unlock()
+	ch <- prometheus.MustNewConstMetric(descStoreErr, prometheus.GaugeValue, b2f(failing))
+}
+
+func b2f(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
+}

@@ -1,0 +1,233 @@
+package daemon
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"log/slog"
+	"math"
+	"slices"
+	"strings"
+	"sync"
+	"time"
+
+	"holdfast/alerts"
+	"holdfast/calib"
+	"holdfast/daemon/store"
+	"holdfast/drivers"
+	"holdfast/drivers/sim"
+)
+
+// downAfter is how many polls in a row must fail before a gauge is reported down.
+const downAfter = 3
+
+// A link is one connection and the gauges polled over it, in turn.
+type link struct {
+	name   string
+	gauges []*gauge
+	close  func() error
+	sim    *sim.Chamber // set for a simulator link
+}
+
+// A gauge is one measured channel and what the daemon last learned of it.
+type gauge struct {
+	name     string
+	cfg      *GaugeConfig
+	dim      calib.Dimension
+	unit     calib.Unit
+	drv      drivers.Driver
+	transfer calib.Transfer
+
+	mu     sync.Mutex
+	last   calib.Sample
+	seen   bool // any answer yet
+	up     bool
+	misses int
+}
+
+type gaugeView struct {
+	name, kind string
+	last       calib.Sample
+	seen, up   bool
+	stale      bool
+}
+
+func (g *gauge) view(now time.Time) gaugeView {
+	g.mu.Lock()
+	defer g.mu.Unlock()
+	stale := now.Sub(g.last.At) > 3*g.cfg.Interval.D()+g.cfg.Timeout.D()
+	return gaugeView{name: g.name, kind: g.cfg.Kind, last: g.last, seen: g.seen, up: g.up, stale: stale}
+}
+
+// pollLink owns l: it polls l's gauges one at a time, each on its interval,
+// until ctx is done, then closes l.
+func (d *Daemon) pollLink(ctx context.Context, l *link) {
+	defer func() {
+		if l.close != nil {
+			if err := l.close(); err != nil {
+				d.log.Warn("closing link", "link", l.name, "err", err)
+			}
+		}
+	}()
+	log := d.log.With("link", l.name)
+	next := make([]time.Time, len(l.gauges))
+	now := d.clock.Now()
+	for i := range next {
+		next[i] = now
+	}
+	for {
+		i := slices.IndexFunc(next, func(t time.Time) bool { return t.Equal(slices.MinFunc(next, time.Time.Compare)) })
+		if wait := next[i].Sub(d.clock.Now()); wait > 0 {
+			select {
+			case <-ctx.Done():
+				return
+			case <-d.clock.After(wait):
+			}
+		}
+		if ctx.Err() != nil {
+			return
+		}
+		g := l.gauges[i]
+		d.poll(ctx, log, g)
+		iv := g.cfg.Interval.D()
+		next[i] = next[i].Add(iv)
+		if now := d.clock.Now(); next[i].Before(now) {
+			skipped := now.Sub(next[i])/iv + 1
+			next[i] = next[i].Add(skipped * iv)
+			d.met.skipped.WithLabelValues(g.name).Add(float64(skipped))
+		}
+	}
+}
+
+// poll reads g once and passes the sample down the pipeline.
+func (d *Daemon) poll(ctx context.Context, log *slog.Logger, g *gauge) {
+	rctx, cancel := d.withTimeout(ctx, g.cfg.Timeout.D())
+	r, err := g.drv.Read(rctx)
+	if err != nil && ctx.Err() == nil && errors.Is(context.Cause(rctx), context.DeadlineExceeded) && !errors.Is(err, drivers.ErrNoReply) {
+		err = &drivers.GaugeError{Gauge: g.name, Op: "read", Err: fmt.Errorf("%w within %s", drivers.ErrNoReply, g.cfg.Timeout.D())}
+	}
+	cancel()
+	d.met.polls.WithLabelValues(g.name).Inc()
+	if err != nil {
+		if ctx.Err() != nil {
+			return // shutting down
+		}
+		d.pollFailed(log, g, err)
+		return
+	}
+	s := d.sample(g, r)
+	d.store.Append(g.name, store.Point{At: s.At, Raw: s.Raw, Value: s.Value, Quality: uint8(s.Quality)})
+	d.record(log, g, s)
+	for _, ev := range d.alarms.Observe(g.name, s) {
+		d.alarmEvent(log, ev)
+	}
+}
+
+// sample applies the gauge's transfer to a reading.
+func (d *Daemon) sample(g *gauge, r drivers.Reading) calib.Sample {
+	s := calib.Sample{At: r.At, Raw: r.Raw, Value: math.NaN()}
+	if s.At.IsZero() {
+		s.At = d.clock.Now()
+	}
+	switch r.Status {
+	case drivers.StatusOK:
+		v, err := g.transfer.Apply(r.Raw)
+		s.Quality = calib.QualityOf(err)
+		if err == nil {
+			s.Value = v
+		}
+	case drivers.StatusOverRange:
+		s.Quality = calib.QualityOverRange
+	case drivers.StatusUnderRange:
+		s.Quality = calib.QualityUnderRange
+	case drivers.StatusOff:
+		s.Quality = calib.QualityOff
+	default:
+		s.Quality = calib.QualitySensorFault
+	}
+	return s
+}
+
+func (d *Daemon) record(log *slog.Logger, g *gauge, s calib.Sample) {
+	g.mu.Lock()
+	wasUp, wasSeen := g.up, g.seen
+	g.last, g.seen, g.misses = s, true, 0
+	g.up = s.Quality != calib.QualitySensorFault
+	up := g.up
+	g.mu.Unlock()
+	switch {
+	case up && (!wasUp || !wasSeen):
+		msg := "reads " + s.Quality.String()
+		if s.Quality == calib.QualityOK {
+			msg = "reads " + calib.Format(s.Value, g.unit)
+		}
+		log.Info("gauge up", "gauge", g.name, "value", s.Value, "quality", s.Quality.String())
+		d.emit(Event{At: s.At, Kind: "gauge-up", Gauge: g.name, Message: msg})
+	case !up && (wasUp || !wasSeen):
+		log.Warn("gauge reports a sensor fault", "gauge", g.name)
+		d.emit(Event{At: s.At, Kind: "gauge-down", Gauge: g.name, Message: "instrument reports a sensor fault"})
+	}
+	log.Debug("sample", "gauge", g.name, "raw", s.Raw, "value", s.Value, "quality", s.Quality.String())
+}
+
+func (d *Daemon) pollFailed(log *slog.Logger, g *gauge, err error) {
+	reason := failReason(err)
+	d.met.pollErrors.WithLabelValues(g.name, reason).Inc()
+	g.mu.Lock()
+	g.misses++
+	down := g.up && g.misses == downAfter || !g.seen && g.misses == downAfter
+	if down {
+		g.up = false
+	}
+	g.mu.Unlock()
+	log.Debug("poll failed", "gauge", g.name, "reason", reason, "err", err)
+	if down {
+		now := d.clock.Now()
+		log.Warn("gauge not answering", "gauge", g.name, "misses", downAfter, "err", err)
+		d.emit(Event{At: now, Kind: "gauge-down", Gauge: g.name, Message: "not answering: " + err.Error()})
+	}
+}
+
+func failReason(err error) string {
+	var ge *drivers.GaugeError
+	switch {
+	case errors.Is(err, drivers.ErrNoReply), errors.Is(err, context.DeadlineExceeded):
+		return "no-reply"
+	case errors.As(err, &ge) && strings.Contains(ge.Op, "parse"):
+		return "bad-reply"
+	default:
+		return "link"
+	}
+}
+
+func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
+	kind := map[alerts.EventKind]string{alerts.LimitCrossed: "limit-crossed", alerts.Raised: "alarm-raised", alerts.Cleared: "alarm-cleared"}[ev.Kind]
+	attrs := []any{"alarm", ev.Alarm, "gauge", ev.Gauge, "severity", string(ev.Severity), "detail", ev.Message}
+	switch ev.Kind {
+	case alerts.Raised:
+		log.Error("alarm raised", attrs...)
+	case alerts.Cleared:
+		log.Info("alarm cleared", attrs...)
+	default:
+		log.Info("limit crossed", attrs...)
+	}
+	d.emit(Event{At: ev.At, Kind: kind, Gauge: ev.Gauge, Alarm: ev.Alarm, Severity: string(ev.Severity), Message: ev.Message})
+}
+
+// withTimeout is context.WithTimeout on the daemon's clock, so a read
+// timeout is as long in simulated time as it is in the config.
+func (d *Daemon) withTimeout(ctx context.Context, timeout time.Duration) (context.Context, context.CancelFunc) {
+	if _, wall := d.clock.(wallClock); wall {
+		return context.WithTimeout(ctx, timeout)
+	}
+	rctx, cancel := context.WithCancelCause(ctx)
+	stop := make(chan struct{})
+	go func() {
+		select {
+		case <-d.clock.After(timeout):
+			cancel(context.DeadlineExceeded)
+		case <-stop:
+		}
+	}()
+	return rctx, func() { close(stop); cancel(context.Canceled) }
+}
