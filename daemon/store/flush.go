@@ -4,6 +4,7 @@ import (
 	"cmp"
 	"encoding/binary"
 	"fmt"
+	"maps"
 	"slices"
 	"time"
 
@@ -27,14 +28,15 @@ func (db *DB) Flush() error {
 	start := time.Now()
 	groups := groupBySeries(batch)
 	var damaged []*ChunkError
+	var tails map[string]tail
 	err = db.bolt.Update(func(tx *bolt.Tx) error {
-		damaged = nil // report only what the committed attempt did
+		damaged, tails = nil, map[string]tail{} // keep only what the committed attempt did
 		for _, g := range groups {
-			bad, err := mergeSeries(tx, g.name, g.pts)
+			t, bad, err := appendSeries(tx, g.name, g.pts, db.tails[g.name])
 			if err != nil {
 				return fmt.Errorf("series %q: %w", g.name, err)
 			}
-			damaged = append(damaged, bad...)
+			damaged, tails[g.name] = append(damaged, bad...), t
 		}
 		return nil
 	})
@@ -47,6 +49,7 @@ func (db *DB) Flush() error {
 		db.mu.Unlock()
 		return err
 	}
+	maps.Copy(db.tails, tails) // flushMu guards tails
 	took, size := time.Since(start), db.fileSize()
 	db.mu.Lock()
 	db.stats.Written += int64(len(batch))
@@ -90,20 +93,20 @@ func groupBySeries(batch []pending) []group {
 	return gs
 }
 
-// mergeSeries merges sorted points into a series' chunks: the chunk that
-// covers the first new point and every later chunk that starts before the
-// last one are decoded, merged and split again. For points that arrive in
-// order that is just the open (last) chunk. It returns the unreadable
-// chunks it moved aside.
-func mergeSeries(tx *bolt.Tx, series string, pts []Point) ([]*ChunkError, error) {
-	b, err := tx.Bucket(bucketSeries).CreateBucketIfNotExists([]byte(series))
-	if err != nil {
-		return nil, err
-	}
-	b.FillPercent = fillPercent
+// mergeSeries merges sorted points that arrive late into a series' chunks:
+// the chunk that covers the first new point and every later chunk that
+// starts before the last one are decoded, merged and split again. It
+// returns the unreadable chunks it moved aside.
+func mergeSeries(tx *bolt.Tx, b *bolt.Bucket, series string, pts []Point) ([]*ChunkError, error) {
 	first, last := pts[0].At.UnixNano(), pts[len(pts)-1].At.UnixNano()
 	c := b.Cursor()
 	k, v := seekCovering(c, first)
+	return rechunk(tx, b, c, k, v, series, pts, last)
+}
+
+// rechunk decodes the chunks from (k, v) on while they start no later than
+// last, merges pts in, and writes the result back split into chunks.
+func rechunk(tx *bolt.Tx, b *bolt.Bucket, c *bolt.Cursor, k, v []byte, series string, pts []Point, last int64) ([]*ChunkError, error) {
 	var old []Point
 	var keys [][]byte
 	var damaged []*ChunkError

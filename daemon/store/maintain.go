@@ -163,6 +163,7 @@ func (db *DB) DeleteBefore(series string, t time.Time) (int, error) {
 		return 0, ErrClosed
 	}
 	cut := clampNano(t)
+	db.forgetTail(series)
 	var errs []error
 	deleted := 0
 	err := db.bolt.Update(func(tx *bolt.Tx) error {

@@ -87,7 +87,10 @@ func TestDamagedChunkIsReportedAndOthersStayReadable(t *testing.T) {
 }
 
 func TestFlushMovesADamagedOpenChunkAside(t *testing.T) {
-	pts := seconds(1500)
+	// 1200 points: a full chunk and a block of 176 at the open end. The block
+	// is damaged; appending 900 more makes the run full, so the flush merges
+	// it, cannot decode it, and must keep going.
+	pts := seconds(2100)
 	db := storeFlushed(t, pts[:1200])
 	bad := damage(t, db, pts[1024].At, func(b []byte) []byte { b[len(b)-1] ^= 1; return b })
 	appendAll(db, "g", pts[1200:])

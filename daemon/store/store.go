@@ -53,7 +53,8 @@ type DB struct {
 	maxBuf   int
 	readOnly bool
 
-	flushMu sync.Mutex // held while the disk copy changes; see Range
+	flushMu sync.Mutex      // held while the disk copy changes; see Range
+	tails   map[string]tail // the open end of each series; guarded by flushMu
 
 	mu     sync.Mutex // guards the fields below; never held during disk I/O
 	buf    []pending  // in append order
@@ -105,7 +106,8 @@ func Open(path string, opt Options) (*DB, error) {
 	if err != nil {
 		return nil, fmt.Errorf("open store %s: %w", path, err)
 	}
-	db := &DB{path: path, bolt: b, log: opt.Logger, maxBuf: opt.MaxBuffered, readOnly: opt.ReadOnly}
+	db := &DB{path: path, bolt: b, log: opt.Logger, maxBuf: opt.MaxBuffered, readOnly: opt.ReadOnly,
+		tails: map[string]tail{}}
 	if db.log == nil {
 		db.log = slog.New(slog.DiscardHandler)
 	}

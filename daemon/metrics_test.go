@@ -1,0 +1,59 @@
+package daemon
+
+import (
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/prometheus/client_golang/prometheus/testutil"
+
+	"holdfast/calib"
+)
+
+// A gauge with a valid recent sample exports its value; one whose last
+// sample is over-range, or stale, or that is down exports none (the
+// Prometheus convention for missing data is absence, not NaN).
+func TestMetricsOmitInvalidValues(t *testing.T) {
+	now := time.Now()
+	ok := fakeGauge("ok", time.Second, nil)
+	ok.seen, ok.up, ok.last = true, true, calib.Sample{At: now, Value: 2.5e-3, Quality: calib.QualityOK}
+	over := fakeGauge("over", time.Second, nil)
+	over.seen, over.up, over.last = true, true, calib.Sample{At: now, Value: 1e5, Quality: calib.QualityOverRange}
+	stale := fakeGauge("stale", time.Second, nil)
+	stale.seen, stale.up, stale.last = true, true, calib.Sample{At: now.Add(-time.Minute), Value: 7, Quality: calib.QualityOK}
+	never := fakeGauge("never", time.Second, nil)
+	d := testDaemon(t, ok, over, stale, never)
+
+	want := `
+# HELP holdfast_pressure_pascals Last valid pressure read by the poller, after calibration. Absent while the gauge has no valid reading.
+# TYPE holdfast_pressure_pascals gauge
+holdfast_pressure_pascals{gauge="ok"} 0.0025
+# HELP holdfast_gauge_up 1 if the gauge answered its last polls and reports no sensor fault, else 0.
+# TYPE holdfast_gauge_up gauge
+holdfast_gauge_up{gauge="never"} 0
+holdfast_gauge_up{gauge="ok"} 1
+holdfast_gauge_up{gauge="over"} 1
+holdfast_gauge_up{gauge="stale"} 0
+`
+	if err := testutil.GatherAndCompare(d.met.reg, strings.NewReader(want), "holdfast_pressure_pascals", "holdfast_gauge_up"); err != nil {
+		t.Error(err)
+	}
+}
+
+// Metric names follow the Prometheus naming rules (promlint).
+func TestMetricsLint(t *testing.T) {
+	g := fakeGauge("p", time.Second, nil)
+	g.seen, g.up, g.last = true, true, calib.Sample{At: time.Now(), Value: 1, Quality: calib.QualityOK}
+	d := testDaemon(t, g)
+	problems, err := testutil.GatherAndLint(d.met.reg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range problems {
+		// "gauge" in holdfast_gauge_up is the instrument, our vocabulary (and the
+		// name the issue asks for), not the metric type the lint rule means.
+		if strings.HasPrefix(p.Metric, "holdfast_") && !strings.Contains(p.Text, "should not include type 'gauge'") {
+			t.Errorf("%s: %s", p.Metric, p.Text)
+		}
+	}
+}
