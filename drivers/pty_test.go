@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"io"
+	"log"
 	"log/slog"
 	"os"
 	"path/filepath"
@@ -140,9 +141,6 @@ func openTestSerial(t *testing.T, device string, timeout time.Duration) *StreamL
 	return l
 }
 
-// discardOutput keeps a noisy io.Writer out of test logs.
-var _ io.Writer = io.Discard
-
 func isNoReply(err error) bool { return errors.Is(err, ErrNoReply) }
 
 // symlinkTo points link at target, replacing any old link.
@@ -155,3 +153,5 @@ func symlinkTo(t *testing.T, target, link string) {
 }
 
 func tempLink(t *testing.T) string { return filepath.Join(t.TempDir(), "gauge-port") }
+
+func discardLog() *log.Logger { return log.New(io.Discard, "", 0) }
