@@ -26,7 +26,8 @@ type ChamberConfig struct {
 
 // HTTPConfig says where the daemon serves metrics and its API.
 type HTTPConfig struct {
-	Listen string `yaml:"listen"` // host:port; default 127.0.0.1:9781
+	Listen    string `yaml:"listen"`     // host:port; default 127.0.0.1:9781
+	TokenFile string `yaml:"token_file"` // bearer token for changes (ack, activate, ...); none means changes are refused
 }
 
 // StoreConfig says where samples are kept.
@@ -97,23 +98,6 @@ type GaugeConfig struct {
 	Digits     int      `yaml:"digits"`     // significant digits the instrument prints
 	Where      string   `yaml:"where"`      // thermocouple: wall | ambient
 	Protect    Pressure `yaml:"protect"`    // ion: switches itself off above this; default 1e-2 Pa
-}
-
-// AlarmConfig is one alarm rule.
-type AlarmConfig struct {
-	Name     string   `yaml:"name"`
-	Gauge    string   `yaml:"gauge"`
-	Above    Text     `yaml:"above"` // a pressure or temperature, by the gauge's kind
-	Below    Text     `yaml:"below"`
-	For      Duration `yaml:"for"` // on-delay: the condition must hold this long
-	Severity string   `yaml:"severity"`
-	// WaitForNormal arms the alarm only once the value has been within its
-	// limits (after a pump-down, say).
-	WaitForNormal bool `yaml:"wait_for_normal"`
-
-	above, below float64 // SI, resolved by the checker
-	hasAbove     bool
-	hasBelow     bool
 }
 
 // Defaults for optional settings.

@@ -59,6 +59,7 @@ type Daemon struct {
 	alarms *alerts.Engine
 	met    *metrics
 	ln     net.Listener
+	token  string // bearer token for changes; empty refuses them
 
 	flushMu  sync.Mutex
 	flushErr error
@@ -84,11 +85,17 @@ func New(cfg *Config, opt Options) (d *Daemon, err error) {
 		return nil, err
 	}
 	d.alarms = alerts.NewEngine(d.limits())
+	if d.token, err = readToken(cfg.HTTP.TokenFile); err != nil {
+		return nil, err
+	}
 	if err := os.MkdirAll(cfg.Store.Dir, 0o750); err != nil {
 		return nil, fmt.Errorf("data directory: %w", err)
 	}
 	if d.store, err = store.Open(StorePath(cfg.Store.Dir), store.Options{}); err != nil {
 		return nil, err
+	}
+	if err := d.loadCalibrations(); err != nil {
+		return nil, errors.Join(err, d.store.Close())
 	}
 	d.met = newMetrics(d)
 	if d.ln, err = net.Listen("tcp", cfg.HTTP.Listen); err != nil {
@@ -116,6 +123,8 @@ func (d *Daemon) Run(parent context.Context) error {
 		}
 	})
 	wg.Go(func() { d.flushLoop(ctx) })
+	wg.Go(func() { d.alarmLoop(ctx) })
+	wg.Go(func() { d.notifyLoop(ctx) })
 	d.log.Info("daemon started", "chamber", d.cfg.Chamber.Name, "gauges", len(d.gauges), "listen", d.Addr())
 	<-ctx.Done()
 	shut, done := context.WithTimeout(context.Background(), 3*time.Second)

@@ -1,10 +1,13 @@
 package daemon
 
 import (
+	"crypto/subtle"
 	"encoding/json"
 	"fmt"
 	"html"
 	"net/http"
+	"os"
+	"strings"
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus/promhttp"
@@ -21,6 +24,8 @@ func (d *Daemon) handler() http.Handler {
 	mux.HandleFunc("GET /healthz", d.healthz)
 	mux.HandleFunc("GET /api/v1/gauges", d.apiGauges)
 	mux.HandleFunc("GET /{$}", d.landing)
+	d.calibRoutes(mux)
+	d.alarmRoutes(mux)
 	return mux
 }
 
@@ -63,10 +68,7 @@ func (d *Daemon) apiGauges(w http.ResponseWriter, _ *http.Request) {
 		}
 		out = append(out, j)
 	}
-	w.Header().Set("Content-Type", "application/json")
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	_ = enc.Encode(out) // the client went away; nothing to do
+	writeJSON(w, out)
 }
 
 func (d *Daemon) landing(w http.ResponseWriter, _ *http.Request) {
@@ -74,4 +76,53 @@ func (d *Daemon) landing(w http.ResponseWriter, _ *http.Request) {
 	fmt.Fprintf(w, `<!doctype html><title>holdfast: %[1]s</title><h1>holdfast: %[1]s</h1>
 <p><a href="/metrics">/metrics</a> · <a href="/api/v1/gauges">/api/v1/gauges</a> · <a href="/healthz">/healthz</a></p>
 <p>A monitoring aid, not a safety interlock.</p>`, html.EscapeString(d.cfg.Chamber.Name))
+}
+
+// readToken reads the bearer token that guards changes. No file means no
+// token: the API then refuses every change.
+func readToken(path string) (string, error) {
+	if path == "" {
+		return "", nil
+	}
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return "", fmt.Errorf("http.token_file: %w", err)
+	}
+	tok := strings.TrimSpace(string(b))
+	if len(tok) < 16 {
+		return "", fmt.Errorf("http.token_file %s: the token must be at least 16 characters (e.g. head -c 24 /dev/urandom | base64 > %s)", path, path)
+	}
+	return tok, nil
+}
+
+// changes wraps a handler that changes state (ack, shelve, activate a
+// calibration, start a hold test): it needs "Authorization: Bearer <token>".
+func (d *Daemon) changes(h http.HandlerFunc) http.HandlerFunc {
+	return func(w http.ResponseWriter, r *http.Request) {
+		if d.token == "" {
+			apiError(w, http.StatusForbidden, "changes are disabled: set http.token_file in the config")
+			return
+		}
+		got, ok := strings.CutPrefix(r.Header.Get("Authorization"), "Bearer ")
+		if !ok || subtle.ConstantTimeCompare([]byte(got), []byte(d.token)) != 1 {
+			apiError(w, http.StatusUnauthorized, "missing or wrong bearer token")
+			return
+		}
+		h(w, r)
+	}
+}
+
+// apiError writes {"error": msg} with the given status.
+func apiError(w http.ResponseWriter, status int, msg string) {
+	w.Header().Set("Content-Type", "application/json")
+	w.WriteHeader(status)
+	_ = json.NewEncoder(w).Encode(map[string]string{"error": msg})
+}
+
+// writeJSON writes v as indented JSON.
+func writeJSON(w http.ResponseWriter, v any) {
+	w.Header().Set("Content-Type", "application/json")
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	_ = enc.Encode(v) // the client went away; nothing to do
 }

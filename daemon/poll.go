@@ -11,7 +11,6 @@ import (
 	"sync"
 	"time"
 
-	"holdfast/alerts"
 	"holdfast/calib"
 	"holdfast/daemon/store"
 	"holdfast/drivers"
@@ -31,18 +30,19 @@ type link struct {
 
 // A gauge is one measured channel and what the daemon last learned of it.
 type gauge struct {
-	name     string
-	cfg      *GaugeConfig
-	dim      calib.Dimension
-	unit     calib.Unit
-	drv      drivers.Driver
-	transfer calib.Transfer
+	name string
+	cfg  *GaugeConfig
+	dim  calib.Dimension
+	unit calib.Unit
+	drv  drivers.Driver
 
-	mu     sync.Mutex
-	last   calib.Sample
-	seen   bool // any answer yet
-	up     bool
-	misses int
+	mu       sync.Mutex
+	transfer calib.Transfer // the active calibration, or the instrument's own curve
+	calID    uint32         // id of the active calibration; 0 for the instrument's own curve
+	last     calib.Sample
+	seen     bool // any answer yet
+	up       bool
+	misses   int
 }
 
 type gaugeView struct {
@@ -115,23 +115,35 @@ func (d *Daemon) poll(ctx context.Context, log *slog.Logger, g *gauge) {
 		d.pollFailed(log, g, err)
 		return
 	}
-	s := d.sample(g, r)
-	d.store.Append(g.name, store.Point{At: s.At, Raw: s.Raw, Value: s.Value, Quality: uint8(s.Quality)})
+	s, calID := d.sample(g, r)
+	d.store.Append(g.name, store.Point{At: s.At, Raw: s.Raw, Value: s.Value, Quality: uint8(s.Quality), Calibration: calID})
 	d.record(log, g, s)
 	for _, ev := range d.alarms.Observe(g.name, s) {
 		d.alarmEvent(log, ev)
 	}
 }
 
-// sample applies the gauge's transfer to a reading.
-func (d *Daemon) sample(g *gauge, r drivers.Reading) calib.Sample {
+// setTransfer makes t (calibration id, or 0 for the instrument's own
+// curve) the gauge's active mapping from the next reading on.
+func (g *gauge) setTransfer(t calib.Transfer, id uint32) {
+	g.mu.Lock()
+	g.transfer, g.calID = t, id
+	g.mu.Unlock()
+}
+
+// sample applies the gauge's active transfer to a reading and says which
+// calibration produced the value.
+func (d *Daemon) sample(g *gauge, r drivers.Reading) (calib.Sample, uint32) {
+	g.mu.Lock()
+	transfer, calID := g.transfer, g.calID
+	g.mu.Unlock()
 	s := calib.Sample{At: r.At, Raw: r.Raw, Value: math.NaN()}
 	if s.At.IsZero() {
 		s.At = d.clock.Now()
 	}
 	switch r.Status {
 	case drivers.StatusOK:
-		v, err := g.transfer.Apply(r.Raw)
+		v, err := transfer.Apply(r.Raw)
 		s.Quality = calib.QualityOf(err)
 		if err == nil {
 			s.Value = v
@@ -145,7 +157,7 @@ func (d *Daemon) sample(g *gauge, r drivers.Reading) calib.Sample {
 	default:
 		s.Quality = calib.QualitySensorFault
 	}
-	return s
+	return s, calID
 }
 
 func (d *Daemon) record(log *slog.Logger, g *gauge, s calib.Sample) {
@@ -198,20 +210,6 @@ func failReason(err error) string {
 	default:
 		return "link"
 	}
-}
-
-func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
-	kind := map[alerts.EventKind]string{alerts.LimitCrossed: "limit-crossed", alerts.Raised: "alarm-raised", alerts.Cleared: "alarm-cleared"}[ev.Kind]
-	attrs := []any{"alarm", ev.Alarm, "gauge", ev.Gauge, "severity", string(ev.Severity), "detail", ev.Message}
-	switch ev.Kind {
-	case alerts.Raised:
-		log.Error("alarm raised", attrs...)
-	case alerts.Cleared:
-		log.Info("alarm cleared", attrs...)
-	default:
-		log.Info("limit crossed", attrs...)
-	}
-	d.emit(Event{At: ev.At, Kind: kind, Gauge: ev.Gauge, Alarm: ev.Alarm, Severity: string(ev.Severity), Message: ev.Message})
 }
 
 // withTimeout is context.WithTimeout on the daemon's clock, so a read
