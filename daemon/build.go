@@ -23,6 +23,9 @@ func (d *Daemon) buildGauges() error {
 	}
 	for _, name := range sortedKeys(d.cfg.Gauges) {
 		gc := d.cfg.Gauges[name]
+		if len(gc.Combine) > 0 {
+			continue // virtual: built by buildCombined
+		}
 		l := byLink[gc.Link]
 		if l == nil {
 			continue // its link failed; already reported
@@ -34,6 +37,9 @@ func (d *Daemon) buildGauges() error {
 		}
 		l.gauges = append(l.gauges, g)
 		d.gauges = append(d.gauges, g)
+	}
+	if err := d.buildCombined(); err != nil {
+		errs = append(errs, err)
 	}
 	for _, name := range sortedKeys(byLink) {
 		if l := byLink[name]; len(l.gauges) > 0 {

@@ -92,6 +92,10 @@ type GaugeConfig struct {
 	Kind     string   `yaml:"kind"`     // pressure | temperature
 	Unit     string   `yaml:"unit"`     // display unit; metrics stay SI
 
+	// Combine makes a virtual gauge that blends these gauges over their
+	// ranges; it has no link or driver of its own.
+	Combine []string `yaml:"combine"`
+
 	// Simulated instruments (driver: sim).
 	Instrument string   `yaml:"instrument"` // pirani | cdg | ion | thermocouple
 	FullScale  Pressure `yaml:"full_scale"` // cdg

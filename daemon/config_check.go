@@ -153,6 +153,10 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 		v.problem(path, "empty; a gauge needs at least link, driver and kind")
 		return
 	}
+	if len(g.Combine) > 0 {
+		v.combined(name, g)
+		return
+	}
 	l, ok := v.cfg.Links[g.Link]
 	v.expect(ok, path+".link", "unknown link %q (known: %s)", g.Link, strings.Join(sortedKeys(v.cfg.Links), ", "))
 	v.expect(drivers.Known(g.Driver), path+".driver", "unknown driver %q (known: %s)", g.Driver, strings.Join(drivers.Kinds(), ", "))

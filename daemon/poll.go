@@ -121,6 +121,7 @@ func (d *Daemon) poll(ctx context.Context, log *slog.Logger, g *gauge) {
 	for _, ev := range d.alarms.Observe(g.name, s) {
 		d.alarmEvent(log, ev)
 	}
+	d.combineAfter(log, g, s)
 }
 
 // setTransfer makes t (calibration id, or 0 for the instrument's own
