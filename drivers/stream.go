@@ -177,14 +177,17 @@ func (l *StreamLink) prepare(req []byte) error {
 func (l *StreamLink) readUntil(ctx context.Context, until byte, deadline time.Time) ([]byte, error) {
 	var reply []byte
 	var buf [256]byte
+	start := time.Now()
 	for {
+		// The deadline is checked first: a context deadline is the
+		// exchange's timeout (deadline includes it) and reads as no reply.
+		wait := min(time.Until(deadline), readSlice)
+		if wait <= 0 {
+			return reply, l.timedOut(len(reply), until, time.Since(start).Round(time.Millisecond))
+		}
 		if err := ctx.Err(); err != nil {
 			l.dirty = true
 			return reply, err
-		}
-		wait := min(time.Until(deadline), readSlice)
-		if wait <= 0 {
-			return reply, l.timedOut(len(reply), until)
 		}
 		n, err := l.p.readSome(buf[:], wait)
 		if err != nil {
@@ -203,13 +206,13 @@ func (l *StreamLink) readUntil(ctx context.Context, until byte, deadline time.Ti
 	}
 }
 
-func (l *StreamLink) timedOut(got int, until byte) error {
+func (l *StreamLink) timedOut(got int, until byte, waited time.Duration) error {
 	l.dirty = true
 	l.silent++
 	l.updateStats(func(s *LinkStats) { s.Timeouts++ })
-	err := fmt.Errorf("%s: %w within %s", l.target, ErrNoReply, l.timeout)
+	err := fmt.Errorf("%s: %w within %s", l.target, ErrNoReply, waited)
 	if got > 0 {
-		err = fmt.Errorf("%s: %w: %d bytes arrived but no terminator %q within %s", l.target, ErrNoReply, got, until, l.timeout)
+		err = fmt.Errorf("%s: %w: %d bytes arrived but no terminator %q within %s", l.target, ErrNoReply, got, until, waited)
 	}
 	if l.reopenAfter > 0 && l.silent >= l.reopenAfter {
 		return l.fail(err)
