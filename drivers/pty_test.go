@@ -32,11 +32,18 @@ type fakeInstrument struct {
 
 func startInstrument(t *testing.T, answer func([]byte) ([]byte, bool)) *fakeInstrument {
 	t.Helper()
+	return startPacedInstrument(t, 0, answer)
+}
+
+// startPacedInstrument starts an instrument that pauses pace between the
+// bytes of each reply.
+func startPacedInstrument(t *testing.T, pace time.Duration, answer func([]byte) ([]byte, bool)) *fakeInstrument {
+	t.Helper()
 	m, s, err := openPollablePty()
 	if err != nil {
 		t.Fatalf("pty.Open: %v", err)
 	}
-	f := &fakeInstrument{t: t, master: m, slave: s, answer: answer, done: make(chan struct{})}
+	f := &fakeInstrument{t: t, master: m, slave: s, answer: answer, pace: pace, done: make(chan struct{})}
 	go f.serve()
 	t.Cleanup(f.stop)
 	return f

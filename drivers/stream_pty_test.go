@@ -30,8 +30,8 @@ func TestSerialExchangeThroughPty(t *testing.T) {
 }
 
 func TestSerialSlowReplyArrivesInPieces(t *testing.T) {
-	inst := startInstrument(t, lineAnswer(func(string) string { return "7.5E+02\r\n" }))
-	inst.pace = 10 * time.Millisecond // 9 bytes over ~90 ms, read in many pieces
+	// 9 bytes over ~90 ms, read in many pieces.
+	inst := startPacedInstrument(t, 10*time.Millisecond, lineAnswer(func(string) string { return "7.5E+02\r\n" }))
 	l := openTestSerial(t, inst.path(), time.Second)
 	got, err := l.Exchange(context.Background(), []byte("Q\r"), '\n')
 	if err != nil || string(got) != "7.5E+02\r\n" {
