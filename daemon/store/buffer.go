@@ -18,7 +18,7 @@ type Stats struct {
 	Rejected     int64         // points refused by Append (see its doc)
 	LastRejected error         // why the last point was refused
 	Damaged      int64         // unreadable chunks moved aside to the damaged-chunks bucket
-	FileBytes    int64         // size of the file after the last flush
+	FileBytes    int64         // bytes of the file in use after the last flush (bbolt grows the file itself in steps)
 }
 
 // Earliest and latest times a Point may carry: those whose nanoseconds since

@@ -25,12 +25,20 @@
 // flushes loses only what was buffered. The file is opened with
 // NoFreelistSync and the hash-map freelist, never NoSync.
 //
-// The open (last) chunk of a series is decoded, extended and rewritten on
-// each flush rather than appended as small sealed blocks: bbolt rewrites the
-// whole leaf page on any change anyway, so blocks would save only CPU, and
-// the rewrite keeps every chunk fully compressed with a single code path for
-// in-order and late points. The figures are in the benchmarks
-// (BenchmarkFlushTenGauges).
+// The open end of a series is not rewritten on each flush: each flush
+// appends its new points as a small block (a chunk of a few points), and
+// when the blocks reach 1024 points or an hour they are merged into full
+// chunks (tail.go has the measurements behind this choice). Ten gauges cost
+// about 0.7 ms per flush on the test VM, almost all of it bbolt's commit,
+// whatever the fill of the open chunk; rewriting the open chunk instead cost
+// up to 0.9 ms of CPU per gauge per flush.
+//
+// Figures for an invented overnight bake (three gauges at 1 Hz for 12 h,
+// 3 significant digits, jittered schedule; BenchmarkNight): 3.5 bytes per
+// sample in chunks, 4.4 bytes per sample of bbolt pages after Compact.
+// About 2.7 of the 3.5 bytes are timestamps: times are kept to the
+// nanosecond, and 0.3 ms of scheduling jitter is ~20 bits of information
+// per sample; a jitter-free schedule costs about one bit.
 //
 // # Order
 //

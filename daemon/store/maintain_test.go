@@ -222,3 +222,56 @@ func TestCompactWritesASmallerCopyWithEverything(t *testing.T) {
 		return nil
 	})
 }
+
+// chunkSizes lists the point counts of series g's chunks in key order.
+func chunkSizes(t *testing.T, db *DB) []int {
+	t.Helper()
+	var n []int
+	db.Bolt().View(func(tx *bolt.Tx) error {
+		return tx.Bucket(bucketSeries).Bucket([]byte("g")).ForEach(func(k, v []byte) error {
+			h, err := readHead(v)
+			if err != nil {
+				t.Fatal(err)
+			}
+			n = append(n, h.n)
+			return nil
+		})
+	})
+	return n
+}
+
+func TestSmallFlushesAreMergedIntoFullChunks(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "blocks.db")
+	pts := seconds(2100)
+	db, err := Open(path, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < len(pts); i += 10 {
+		if i == 700 { // a restart mid-run: the new process finds the blocks on disk
+			if err := db.Close(); err != nil {
+				t.Fatal(err)
+			}
+			if db, err = Open(path, Options{}); err != nil {
+				t.Fatal(err)
+			}
+		}
+		appendAll(db, "g", pts[i:i+10])
+		if err := db.Flush(); err != nil {
+			t.Fatal(err)
+		}
+	}
+	defer db.Close()
+	sizes := chunkSizes(t, db)
+	if len(sizes) < 3 || sizes[0] != 1024 || sizes[1] != 1024 {
+		t.Fatalf("chunk sizes %v; want two full chunks of 1024, then blocks of the last 52 points", sizes)
+	}
+	rest := 0
+	for _, n := range sizes[2:] {
+		rest += n
+	}
+	if rest != 52 {
+		t.Fatalf("chunk sizes %v: %d points after the full chunks, want 52", sizes, rest)
+	}
+	samePoints(t, all(t, db, "g"), pts)
+}
