@@ -17,10 +17,12 @@ type ChunkError struct {
 	Err    error
 }
 
+// Error names the series and the chunk's start time.
 func (e *ChunkError) Error() string {
 	return fmt.Sprintf("series %q: chunk starting %s: %v", e.Series, e.Start.Format(time.RFC3339Nano), e.Err)
 }
 
+// Unwrap returns the decoding error.
 func (e *ChunkError) Unwrap() error { return e.Err }
 
 // errCorruptField reports a field whose stored value is impossible.
