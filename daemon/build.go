@@ -76,10 +76,7 @@ func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, erro
 		if l.sim == nil {
 			return nil, errors.New("driver sim needs a simulator link")
 		}
-		in, err := l.sim.Instrument(sim.InstrumentConfig{
-			Name: name, Kind: gc.Instrument, Digits: gc.Digits, FullScale: float64(gc.FullScale), Where: gc.Where, Protect: float64(gc.Protect),
-			Timeout: time.Hour, // a silent instrument waits for the daemon's own read timeout
-		})
+		in, err := l.sim.Instrument(simInstrument(name, gc))
 		if err != nil {
 			return nil, err
 		}
@@ -134,4 +131,39 @@ func simEvent(st *SimStep) sim.Event {
 		ev.Action, ev.Target = "recover", st.Recover
 	}
 	return ev
+}
+
+// SimChamber builds the simulated chamber of the simulator link named link
+// in cfg, and its instruments (the gauges with driver sim on that link), on
+// the given clock. holdfast simulate serves them over a pseudo-terminal.
+func SimChamber(cfg *Config, link string, now func() time.Time) (*sim.Chamber, map[string]*sim.Instrument, error) {
+	lc, ok := cfg.Links[link]
+	if !ok || lc.Simulator == nil {
+		return nil, nil, fmt.Errorf("no simulator link %q in %s", link, cfg.File)
+	}
+	ch, err := sim.New(simConfig(cfg, lc.Simulator), now)
+	if err != nil {
+		return nil, nil, fmt.Errorf("link %s: %w", link, err)
+	}
+	ins := map[string]*sim.Instrument{}
+	for _, name := range sortedKeys(cfg.Gauges) {
+		gc := cfg.Gauges[name]
+		if gc.Link != link || gc.Driver != "sim" {
+			continue
+		}
+		in, err := ch.Instrument(simInstrument(name, gc))
+		if err != nil {
+			return nil, nil, fmt.Errorf("gauge %s: %w", name, err)
+		}
+		ins[name] = in
+	}
+	return ch, ins, nil
+}
+
+func simInstrument(name string, gc *GaugeConfig) sim.InstrumentConfig {
+	return sim.InstrumentConfig{
+		Name: name, Kind: gc.Instrument, Digits: gc.Digits, FullScale: float64(gc.FullScale),
+		Where: gc.Where, Protect: float64(gc.Protect),
+		Timeout: time.Hour, // a silent instrument waits for the daemon's own read timeout
+	}
 }
