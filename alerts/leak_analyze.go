@@ -27,7 +27,8 @@ import (
 // A record that cannot be judged is not an error: the result is Inconclusive
 // with the reason. "Too short" means fewer than MinPoints distinct times or a
 // span under MinSpan. Errors are only for unusable input: mismatched lengths,
-// values that are not finite, a volume that is not positive.
+// values that are not finite, times or pressures so far apart that their
+// difference overflows, a volume that is not positive.
 func AnalyzeRise(t, p []float64, volume float64, opt RiseOptions) (RiseResult, error) {
 	if err := checkRiseInput(t, p, volume); err != nil {
 		return RiseResult{}, err
@@ -46,7 +47,28 @@ func AnalyzeRise(t, p []float64, volume float64, opt RiseOptions) (RiseResult, e
 	}
 	res.Fit = fit
 	res.summarise()
+	if !res.finite() {
+		return RiseResult{Volume: volume, Classification: Inconclusive, RiseQuality: rec.quality(len(t)),
+			Reason: "the fit failed: it gave values that are not finite numbers (record too ill-conditioned)"}, nil
+	}
 	return res, nil
+}
+
+// finite reports whether every number in the result is finite, as JSON needs.
+func (res *RiseResult) finite() bool {
+	f := res.Fit
+	v := []float64{res.LeakRate, res.LeakRateUncertainty, res.OutgassingRate, res.OutgassingRateUncertainty,
+		res.LeakShare, res.Rise, res.RiseUncertainty, res.Noise, res.Autocorrelation, res.DeltaBIC,
+		f.P0, f.P0Uncertainty, f.Slope, f.SlopeUncertainty, f.Curve, f.CurveUncertainty, f.Tau, f.TauUncertainty}
+	for _, row := range f.Covariance {
+		v = append(v, row[:]...)
+	}
+	for _, x := range v {
+		if !isFinite(x) {
+			return false
+		}
+	}
+	return true
 }
 
 func (rec record) quality(samples int) RiseQuality {

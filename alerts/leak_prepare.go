@@ -33,6 +33,14 @@ func checkRiseInput(t, p []float64, volume float64) error {
 			return fmt.Errorf("rise sample %d (time %g s, pressure %g Pa) is not a finite number: drop or fix it", i, t[i], p[i])
 		}
 	}
+	if len(t) > 0 {
+		tLo, tHi := slices.Min(t), slices.Max(t)
+		pLo, pHi := slices.Min(p), slices.Max(p)
+		if !isFinite(tHi-tLo) || !isFinite(pHi-pLo) {
+			return fmt.Errorf("rise record spans %g s to %g s and %g Pa to %g Pa: too far apart to compute with; "+
+				"check the columns' units", tLo, tHi, pLo, pHi)
+		}
+	}
 	return nil
 }
 
