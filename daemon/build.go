@@ -6,6 +6,7 @@ import (
 	"time"
 
 	"holdfast/calib"
+	"holdfast/drivers"
 	"holdfast/drivers/sim"
 )
 
@@ -42,8 +43,14 @@ func (d *Daemon) buildGauges() error {
 		errs = append(errs, err)
 	}
 	for _, name := range sortedKeys(byLink) {
-		if l := byLink[name]; len(l.gauges) > 0 {
+		l := byLink[name]
+		if err := linkFeeds(l); err != nil {
+			errs = append(errs, err)
+		}
+		if len(l.gauges) > 0 {
 			d.links = append(d.links, l)
+		} else if l.close != nil {
+			errs = append(errs, l.close())
 		}
 	}
 	return errors.Join(errs...)
@@ -58,6 +65,32 @@ func (d *Daemon) buildLink(name string, lc *LinkConfig) (*link, error) {
 			return nil, err
 		}
 		l.sim = ch
+	case lc.Serial != nil:
+		sl, err := drivers.OpenSerial(lc.Serial.driver(name), d.log)
+		if err != nil {
+			return nil, err
+		}
+		l.stream, l.close, l.stats = sl, sl.Close, sl.Stats
+	case lc.TCP != nil:
+		tl, err := drivers.DialTCP(lc.TCP.driver(name), d.log)
+		if err != nil {
+			return nil, err
+		}
+		l.stream, l.close, l.stats = tl, tl.Close, tl.Stats
+	case lc.isModbus():
+		mc := drivers.ModbusConfig{Name: name}
+		if lc.ModbusRTU != nil {
+			sc := lc.ModbusRTU.driver(name)
+			mc.RTU = &sc
+		} else {
+			tc := lc.ModbusTCP.driver(name)
+			mc.TCP = &tc
+		}
+		ml, err := drivers.OpenModbus(mc, d.log)
+		if err != nil {
+			return nil, err
+		}
+		l.modbus, l.close, l.stats = ml, ml.Close, ml.Stats
 	default:
 		return nil, errors.New("no link kind set")
 	}
@@ -82,10 +115,62 @@ func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, erro
 		}
 		g.drv = in
 		g.transfer = in.Transfer() // the instrument's own curve, as its maker ships it
+	case "ascii", "scpi", "modbus":
+		if gc.From != "" {
+			break // fed by its source's exchange; see linkFeeds
+		}
+		opts, err := driverOptions(name, gc)
+		if err != nil {
+			return nil, err
+		}
+		opts.Now, opts.Log = d.clock.Now, d.log.With("gauge", name)
+		if gc.Driver == "modbus" {
+			g.drv, err = drivers.NewModbus(l.modbus, opts)
+		} else {
+			g.drv, err = drivers.New(gc.Driver, l.stream, opts)
+		}
+		if err != nil {
+			return nil, err
+		}
+		if g.transfer, err = gaugeTransfer(gc); err != nil {
+			return nil, err
+		}
 	default:
-		return nil, fmt.Errorf("driver %q is not wired into the daemon yet", gc.Driver)
+		return nil, fmt.Errorf("unknown driver %q", gc.Driver)
+	}
+	if gc.From != "" {
+		var err error
+		if g.transfer, err = gaugeTransfer(gc); err != nil {
+			return nil, err
+		}
 	}
 	return g, nil
+}
+
+// linkFeeds attaches every gauge with from: to its source gauge, which
+// reads all of their values in one exchange.
+func linkFeeds(l *link) error {
+	byName := map[string]*gauge{}
+	for _, g := range l.gauges {
+		byName[g.name] = g
+	}
+	var polled []*gauge
+	for _, g := range l.gauges {
+		if g.cfg.From == "" {
+			polled = append(polled, g)
+			continue
+		}
+		src := byName[g.cfg.From]
+		if src == nil {
+			return fmt.Errorf("gauge %s: from: %q is not on link %s", g.name, g.cfg.From, l.name)
+		}
+		if _, ok := src.drv.(drivers.MultiDriver); !ok {
+			return fmt.Errorf("gauge %s: from: %q's driver returns one value per exchange", g.name, g.cfg.From)
+		}
+		src.fed = append(src.fed, g)
+	}
+	l.gauges = polled
+	return nil
 }
 
 func simConfig(cfg *Config, s *SimConfig) sim.Config {

@@ -38,7 +38,11 @@ type StoreConfig struct {
 
 // LinkConfig is one physical connection. Exactly one kind is set.
 type LinkConfig struct {
-	Simulator *SimConfig `yaml:"simulator"`
+	Simulator *SimConfig        `yaml:"simulator"`
+	Serial    *SerialLinkConfig `yaml:"serial"`
+	TCP       *TCPLinkConfig    `yaml:"tcp"`
+	ModbusRTU *SerialLinkConfig `yaml:"modbus_rtu"` // Modbus RTU over a serial line or RS-485 bus
+	ModbusTCP *TCPLinkConfig    `yaml:"modbus_tcp"`
 }
 
 // SimConfig describes a simulated chamber served as a link; its gauges use
@@ -95,6 +99,20 @@ type GaugeConfig struct {
 	// Combine makes a virtual gauge that blends these gauges over their
 	// ranges; it has no link or driver of its own.
 	Combine []string `yaml:"combine"`
+
+	// Instruments on a serial or TCP link (driver: ascii, scpi or modbus).
+	Exchange   []*StepConfig      `yaml:"exchange"` // ascii: the steps of one read
+	Status     map[string]string  `yaml:"status"`   // ascii: instrument code -> ok, over-range, under-range, sensor-fault, off
+	Address    string             `yaml:"address"`  // ascii: replaces {addr}
+	Checksum   *ChecksumConfig    `yaml:"checksum"` // ascii
+	Query      string             `yaml:"query"`    // scpi
+	Terminator string             `yaml:"terminator"`
+	Channels   []string           `yaml:"channels"` // scpi: names of the values one query returns
+	Channel    string             `yaml:"channel"`  // which value of a several-value reply is this gauge's
+	From       string             `yaml:"from"`     // take the reading from this gauge's exchange (one query, several gauges)
+	Modbus     *ModbusGaugeConfig `yaml:"modbus"`
+	Transfer   *TransferConfig    `yaml:"transfer"` // analogue output in volts -> pressure
+	RawUnit    string             `yaml:"raw_unit"` // the unit the instrument prints its value in; default SI
 
 	// Simulated instruments (driver: sim).
 	Instrument string   `yaml:"instrument"` // pirani | cdg | ion | thermocouple

@@ -85,11 +85,45 @@ func check(cfg *Config, prior []Problem) []Problem {
 
 func (v *checker) link(name string, l *LinkConfig) {
 	path := "links." + name
-	if l == nil || l.Simulator == nil {
-		v.problem(path, "say what the link is: simulator (serial and tcp links come with the hardware drivers)")
+	if l == nil {
+		l = &LinkConfig{}
+	}
+	kinds := linkKinds(l)
+	if len(kinds) != 1 {
+		v.problem(path, "want exactly one of serial, tcp, modbus_rtu, modbus_tcp or simulator, got %d (%s)", len(kinds), strings.Join(kinds, ", "))
 		return
 	}
-	v.sim(path+".simulator", l.Simulator)
+	switch {
+	case l.Simulator != nil:
+		v.sim(path+".simulator", l.Simulator)
+	case l.Serial != nil:
+		v.driverErrs(path+".serial", l.Serial.driver(name).Validate())
+	case l.TCP != nil:
+		v.driverErrs(path+".tcp", l.TCP.driver(name).Validate())
+	case l.ModbusRTU != nil:
+		sc := l.ModbusRTU.driver(name)
+		v.driverErrs(path+".modbus_rtu", drivers.ModbusConfig{Name: name, RTU: &sc}.Validate())
+	case l.ModbusTCP != nil:
+		tc := l.ModbusTCP.driver(name)
+		v.driverErrs(path+".modbus_tcp", drivers.ModbusConfig{Name: name, TCP: &tc}.Validate())
+	}
+}
+
+// driverErrs reports a leaf package's problems, each of which begins with
+// the field it names ("timeout: ..." or "exchange[1].expect: ..."), under path.
+func (v *checker) driverErrs(path string, err error) {
+	if err == nil {
+		return
+	}
+	for _, e := range strings.Split(err.Error(), "\n") {
+		field, msg, ok := strings.Cut(e, ": ")
+		if !ok || strings.ContainsAny(field, " \"") {
+			v.problem(path, "%s", e)
+			continue
+		}
+		field = strings.TrimPrefix(field, "modbus.") // the link's own kind is already in path
+		v.problem(path+"."+field, "%s", msg)
+	}
 }
 
 func (v *checker) sim(path string, s *SimConfig) {
@@ -160,6 +194,9 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 	l, ok := v.cfg.Links[g.Link]
 	v.expect(ok, path+".link", "unknown link %q (known: %s)", g.Link, strings.Join(sortedKeys(v.cfg.Links), ", "))
 	v.expect(drivers.Known(g.Driver), path+".driver", "unknown driver %q (known: %s)", g.Driver, strings.Join(drivers.Kinds(), ", "))
+	if ok && l != nil {
+		v.gaugeOnLink(path, g, l)
+	}
 	if g.Interval == 0 {
 		g.Interval = Duration(defaultInterval)
 	}
@@ -174,8 +211,11 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 	} else if _, err := calib.ParseUnit(g.Unit, dim); err != nil && dim != 0 {
 		v.problem(path+".unit", "%v", err)
 	}
+	if g.Transfer != nil || g.RawUnit != "" {
+		_, err := gaugeTransfer(g)
+		v.driverErrs(path+map[bool]string{true: ".transfer", false: ""}[g.Transfer != nil], err)
+	}
 	if g.Driver == "sim" {
-		v.expect(ok && l != nil && l.Simulator != nil, path+".link", "driver sim needs a simulator link")
 		v.expect(slices.Contains(simInstruments, g.Instrument), path+".instrument", "want one of %s, got %q", strings.Join(simInstruments, ", "), g.Instrument)
 		v.expect(g.Instrument != "cdg" || g.FullScale > 0, path+".full_scale", "a capacitance gauge needs its full scale, e.g. full_scale: 1000 Pa")
 		wantKind := map[string]string{"pirani": "pressure", "cdg": "pressure", "ion": "pressure", "thermocouple": "temperature"}[g.Instrument]
@@ -196,4 +236,46 @@ func gaugeDim(kind string) calib.Dimension {
 
 func sortProblems(p []Problem) {
 	slices.SortStableFunc(p, func(a, b Problem) int { return cmp.Compare(a.Line, b.Line) })
+}
+
+// gaugeOnLink checks that a gauge's driver fits its link and its protocol
+// settings make sense.
+func (v *checker) gaugeOnLink(path string, g *GaugeConfig, l *LinkConfig) {
+	switch g.Driver {
+	case "sim":
+		v.expect(l.Simulator != nil, path+".link", "driver sim needs a simulator link")
+		return
+	case "modbus":
+		v.expect(l.isModbus(), path+".link", "driver modbus needs a modbus_rtu or modbus_tcp link")
+	case "ascii", "scpi":
+		v.expect(l.Serial != nil || l.TCP != nil, path+".link", "driver %s needs a serial or tcp link", g.Driver)
+	default:
+		return
+	}
+	if g.From != "" {
+		v.fromGauge(path, g)
+		return
+	}
+	name := strings.TrimPrefix(path, "gauges.")
+	if _, err := driverOptions(name, g); err != nil {
+		v.driverErrs(path, err)
+	}
+}
+
+// fromGauge checks a gauge that takes its value from another gauge's
+// several-value exchange.
+func (v *checker) fromGauge(path string, g *GaugeConfig) {
+	src, ok := v.cfg.Gauges[g.From]
+	switch {
+	case !ok || src == nil:
+		v.problem(path+".from", "unknown gauge %q", g.From)
+	case src.From != "":
+		v.problem(path+".from", "%q itself takes its value from %q; name that one", g.From, src.From)
+	case src.Link != g.Link || src.Driver != g.Driver:
+		v.problem(path+".from", "%q is on link %s with driver %s; a gauge fed by it must be on the same link with the same driver", g.From, src.Link, src.Driver)
+	case src.Driver != "ascii" && src.Driver != "scpi":
+		v.problem(path+".from", "only ascii and scpi exchanges return several values")
+	}
+	v.expect(len(g.Exchange) == 0 && g.Query == "", path+".from", "a gauge with from: takes its reading from that gauge's exchange; remove its own exchange or query")
+	v.expect(g.Channel != "", path+".channel", "say which value of %q's reply is this gauge's (the gauge group's text, a step's gauge, or 1, 2, ...)", g.From)
 }

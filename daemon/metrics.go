@@ -68,6 +68,15 @@ var (
 	descAlarmRaised = prometheus.NewDesc("holdfast_alarms_raised_total",
 		"Times the alarm was raised since the daemon started.",
 		[]string{"alarm", "gauge", "severity"}, nil)
+	descLinkUp = prometheus.NewDesc("holdfast_link_up",
+		"1 while the link's device is open and its last exchange did not fail it, else 0.",
+		[]string{"link"}, nil)
+	descLinkReconnects = prometheus.NewDesc("holdfast_link_reconnects_total",
+		"Times the link was reopened after a failure (an unplugged adapter, a rebooted converter).",
+		[]string{"link"}, nil)
+	descLinkTimeouts = prometheus.NewDesc("holdfast_link_timeouts_total",
+		"Exchanges on the link that got no complete reply in time.",
+		[]string{"link"}, nil)
 	descStoreErr = prometheus.NewDesc("holdfast_store_flush_failing",
 		"1 while writes to the sample store fail (samples are held in memory and retried), else 0.",
 		nil, nil)
@@ -79,7 +88,7 @@ var (
 type liveCollector struct{ d *Daemon }
 
 func (c *liveCollector) Describe(ch chan<- *prometheus.Desc) {
-	for _, d := range []*prometheus.Desc{descPressure, descTemperature, descUp, descQuality, descLast, descAlarmActive, descAlarmRaised, descStoreErr} {
+	for _, d := range []*prometheus.Desc{descPressure, descTemperature, descUp, descQuality, descLast, descAlarmActive, descAlarmRaised, descLinkUp, descLinkReconnects, descLinkTimeouts, descStoreErr} {
 		ch <- d
 	}
 }
@@ -108,6 +117,15 @@ func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
 	for _, a := range c.d.alarms.Status() {
 		ch <- prometheus.MustNewConstMetric(descAlarmActive, prometheus.GaugeValue, b2f(a.Active), a.Alarm, a.Gauge, string(a.Severity))
 		ch <- prometheus.MustNewConstMetric(descAlarmRaised, prometheus.CounterValue, float64(a.Raised), a.Alarm, a.Gauge, string(a.Severity))
+	}
+	for _, l := range c.d.links {
+		if l.stats == nil {
+			continue
+		}
+		st := l.stats()
+		ch <- prometheus.MustNewConstMetric(descLinkUp, prometheus.GaugeValue, b2f(st.Up), l.name)
+		ch <- prometheus.MustNewConstMetric(descLinkReconnects, prometheus.CounterValue, float64(st.Reconnects), l.name)
+		ch <- prometheus.MustNewConstMetric(descLinkTimeouts, prometheus.CounterValue, float64(st.Timeouts), l.name)
 	}
 	c.d.flushMu.Lock()
 	failing := c.d.flushErr != nil

@@ -25,7 +25,10 @@ type link struct {
 	name   string
 	gauges []*gauge
 	close  func() error
-	sim    *sim.Chamber // set for a simulator link
+	stats  func() drivers.LinkStats // nil for a simulator link
+	sim    *sim.Chamber             // set for a simulator link
+	stream *drivers.StreamLink      // set for a serial or TCP link
+	modbus *drivers.ModbusLink      // set for a Modbus link
 }
 
 // A gauge is one measured channel and what the daemon last learned of it.
@@ -35,6 +38,7 @@ type gauge struct {
 	dim  calib.Dimension
 	unit calib.Unit
 	drv  drivers.Driver
+	fed  []*gauge // gauges whose values come in this gauge's exchange (from:)
 
 	mu       sync.Mutex
 	transfer calib.Transfer // the active calibration, or the instrument's own curve
@@ -101,6 +105,10 @@ func (d *Daemon) pollLink(ctx context.Context, l *link) {
 
 // poll reads g once and passes the sample down the pipeline.
 func (d *Daemon) poll(ctx context.Context, log *slog.Logger, g *gauge) {
+	if len(g.fed) > 0 {
+		d.pollShared(ctx, log, g)
+		return
+	}
 	rctx, cancel := d.withTimeout(ctx, g.cfg.Timeout.D())
 	r, err := g.drv.Read(rctx)
 	if err != nil && ctx.Err() == nil && errors.Is(context.Cause(rctx), context.DeadlineExceeded) && !errors.Is(err, drivers.ErrNoReply) {
@@ -108,6 +116,41 @@ func (d *Daemon) poll(ctx context.Context, log *slog.Logger, g *gauge) {
 	}
 	cancel()
 	d.met.polls.WithLabelValues(g.name).Inc()
+	d.handle(ctx, log, g, r, err)
+}
+
+// pollShared runs one exchange that returns the values of g and of the
+// gauges fed by it, and hands each its reading.
+func (d *Daemon) pollShared(ctx context.Context, log *slog.Logger, g *gauge) {
+	rctx, cancel := d.withTimeout(ctx, g.cfg.Timeout.D())
+	all, err := g.drv.(drivers.MultiDriver).ReadAll(rctx)
+	cancel()
+	for _, m := range append([]*gauge{g}, g.fed...) {
+		if m != g {
+			d.met.polls.WithLabelValues(m.name).Inc()
+		}
+		if err != nil {
+			d.handle(ctx, log, m, drivers.Reading{}, err)
+			continue
+		}
+		key := m.cfg.Channel
+		r, ok := all[key]
+		if !ok && key == "" && len(all) == 1 {
+			for _, only := range all {
+				r, ok = only, true
+			}
+		}
+		if !ok {
+			d.handle(ctx, log, m, r, &drivers.GaugeError{Gauge: m.name, Op: "parse reply",
+				Err: fmt.Errorf("no value for channel %q in the reply (got %s)", key, strings.Join(sortedKeys(all), ", "))})
+			continue
+		}
+		d.handle(ctx, log, m, r, nil)
+	}
+}
+
+// handle passes one reading (or its error) down the pipeline.
+func (d *Daemon) handle(ctx context.Context, log *slog.Logger, g *gauge, r drivers.Reading, err error) {
 	if err != nil {
 		if ctx.Err() != nil {
 			return // shutting down
