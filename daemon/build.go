@@ -123,7 +123,7 @@ func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, erro
 		if err != nil {
 			return nil, err
 		}
-		opts.Now, opts.Log = d.clock.Now, d.log.With("gauge", name)
+		opts.Now, opts.Log, opts.Trace = d.clock.Now, d.log.With("gauge", name), d.trace
 		if gc.Driver == "modbus" {
 			g.drv, err = drivers.NewModbus(l.modbus, opts)
 		} else {

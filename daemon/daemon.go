@@ -59,7 +59,8 @@ type Daemon struct {
 	alarms *alerts.Engine
 	met    *metrics
 	ln     net.Listener
-	token  string // bearer token for changes; empty refuses them
+	token  string                     // bearer token for changes; empty refuses them
+	trace  func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
 
 	flushMu  sync.Mutex
 	flushErr error

@@ -1,0 +1,40 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// probe on a simulated gauge runs its exchanges and prints each value.
+func TestProbeSimulatedGauge(t *testing.T) {
+	cfg := filepath.Join(t.TempDir(), "p.yaml")
+	os.WriteFile(cfg, []byte(`
+chamber: {name: probe, volume: 10 L}
+store: {dir: /nonexistent-not-opened}
+links: {s: {simulator: {rough_pump: {speed: 2 m3/h}}}}
+gauges:
+  wall: {link: s, driver: sim, instrument: thermocouple, kind: temperature}
+`), 0o644)
+	var out, errOut bytes.Buffer
+	err := run(context.Background(), []string{"probe", "--config", cfg, "--gauge", "wall", "--count", "2", "--every", "1ms"}, &out, &errOut)
+	if err != nil {
+		t.Fatalf("probe: %v\n%s", err, errOut.String())
+	}
+	if n := strings.Count(out.String(), "status ok ->"); n != 2 {
+		t.Errorf("want 2 good exchanges, got %d:\n%s", n, out.String())
+	}
+	err = run(context.Background(), []string{"probe", "--config", cfg, "--gauge", "nope"}, &out, &errOut)
+	if err == nil || !strings.Contains(err.Error(), `no gauge "nope"`) {
+		t.Errorf("unknown gauge: err %v", err)
+	}
+}
+
+func TestPrintable(t *testing.T) {
+	if got, want := printable([]byte("?P1\r\n\x06\x05")), `?P1\r\n\x06\x05`; got != want {
+		t.Errorf("printable = %q, want %q", got, want)
+	}
+}
