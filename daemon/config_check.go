@@ -116,13 +116,18 @@ func (v *checker) driverErrs(path string, err error) {
 		return
 	}
 	for _, e := range strings.Split(err.Error(), "\n") {
-		field, msg, ok := strings.Cut(e, ": ")
-		if !ok || strings.ContainsAny(field, " \"") {
-			v.problem(path, "%s", e)
-			continue
+		field, msg := path, e
+		for {
+			f, rest, ok := strings.Cut(msg, ": ")
+			if !ok || f == "" || strings.ContainsAny(f, " \"'") {
+				break
+			}
+			if f != "modbus" || !strings.Contains(path, "modbus_") { // the link's kind is already in path
+				field += "." + f
+			}
+			msg = rest
 		}
-		field = strings.TrimPrefix(field, "modbus.") // the link's own kind is already in path
-		v.problem(path+"."+field, "%s", msg)
+		v.problem(field, "%s", msg)
 	}
 }
 
