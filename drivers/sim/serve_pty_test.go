@@ -1,0 +1,160 @@
+//go:build linux
+
+package sim
+
+import (
+	"context"
+	"errors"
+	"log/slog"
+	"math"
+	"strings"
+	"testing"
+	"time"
+
+	"holdfast/drivers"
+)
+
+// servePTY serves s on a fresh pseudo-terminal until the test ends and
+// returns the port to open.
+func servePTY(t *testing.T, serve func(p *PTY) error) string {
+	t.Helper()
+	p, err := OpenPTY()
+	if err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- serve(p) }()
+	t.Cleanup(func() {
+		p.Close()
+		if err := <-done; err == nil {
+			t.Error("serving returned nil after the pty closed; want the read error")
+		}
+	})
+	return p.Name()
+}
+
+func ptyLink(t *testing.T, device string) *drivers.StreamLink {
+	t.Helper()
+	l, err := drivers.OpenSerial(drivers.SerialConfig{Name: "sim", Device: device, Baud: 9600, Timeout: 300 * time.Millisecond},
+		slog.New(slog.NewTextHandler(t.Output(), nil)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { l.Close() })
+	return l
+}
+
+var asciiStatusMap = map[string]drivers.Status{
+	"0": drivers.StatusOK, "1": drivers.StatusUnderRange, "2": drivers.StatusOverRange,
+	"3": drivers.StatusSensorFault, "4": drivers.StatusOff,
+}
+
+// The daemon's ascii driver, configured as deploy/examples/pty-demo.yaml
+// configures it, reads what the server prints.
+func TestASCIIThroughPty(t *testing.T) {
+	s, ins := newTestServer(t, ServeOptions{Unit: unit(t, "mbar")})
+	l := ptyLink(t, servePTY(t, func(p *PTY) error { return s.ServeASCII(p.Master) }))
+	one, err := drivers.NewASCII(l, drivers.Options{Gauge: "chamber-cdg", ASCII: drivers.ASCIIOptions{
+		Steps:  []drivers.Step{{Send: `?P1\r`, Expect: `^(?P<status>\d),(?P<value>\S+)$`}},
+		Status: asciiStatusMap,
+	}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r, err := one.Read(context.Background()); err != nil || r.Raw != 10 || r.Status != drivers.StatusOK {
+		t.Errorf("?P1 read = %+v, %v; want 10 mbar ok", r, err)
+	}
+	all, err := drivers.NewASCII(l, drivers.Options{Gauge: "all", ASCII: drivers.ASCIIOptions{
+		Steps:   []drivers.Step{{Send: `?ALL\r`, Expect: `(?P<gauge>\d+)=(?P<status>\d),(?P<value>[^;]+)`}},
+		Status:  asciiStatusMap,
+		Channel: "1",
+	}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rs, err := all.ReadAll(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rs) != 4 || rs["1"].Raw != 10 || rs["2"].Raw != 22 || rs["3"].Status != drivers.StatusOff || !math.IsNaN(rs["3"].Raw) {
+		t.Errorf("?ALL = %+v; want 4 channels, 3 off", rs)
+	}
+	// A silent instrument: the daemon sees no reply, and the next
+	// exchange after recovery reads again.
+	if err := ins[0].Fail(ModeSilent); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := one.Read(context.Background()); !errors.Is(err, drivers.ErrNoReply) {
+		t.Errorf("silent channel: err = %v, want no reply", err)
+	}
+	ins[0].Recover()
+	if r, err := one.Read(context.Background()); err != nil || r.Raw != 10 {
+		t.Errorf("after recovery: %+v, %v", r, err)
+	}
+}
+
+// Address and checksum, checked by the daemon's own checksum code.
+func TestASCIIAddressChecksumThroughPty(t *testing.T) {
+	s, _ := newTestServer(t, ServeOptions{Unit: unit(t, "mbar"), Address: "07", Checksum: true})
+	l := ptyLink(t, servePTY(t, func(p *PTY) error { return s.ServeASCII(p.Master) }))
+	opts := drivers.ASCIIOptions{
+		Steps:    []drivers.Step{{Send: `@{addr}?P2*{cs}\r`, Expect: `^@{addr}:(?P<status>\d),(?P<value>[^*]+)\*(?P<cs>[0-9A-F]{2})$`}},
+		Status:   asciiStatusMap,
+		Address:  "07",
+		Checksum: &drivers.Checksum{Kind: "sum8"},
+	}
+	d, err := drivers.NewASCII(l, drivers.Options{Gauge: "room-tc", ASCII: opts})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r, err := d.Read(context.Background()); err != nil || r.Raw != 22 {
+		t.Errorf("read = %+v, %v; want 22 °C", r, err)
+	}
+	opts.Address = "08" // another device on the bus: nobody answers
+	other, err := drivers.NewASCII(l, drivers.Options{Gauge: "other", ASCII: opts})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := other.Read(context.Background()); !errors.Is(err, drivers.ErrNoReply) {
+		t.Errorf("address 08: err = %v, want no reply", err)
+	}
+	opts.Address, opts.Steps[0].Send = "07", `@{addr}?Q*{cs}\r` // refused: the driver reports the NAK
+	bad, err := drivers.NewASCII(l, drivers.Options{Gauge: "bad", ASCII: opts})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := bad.Read(context.Background()); err == nil || !strings.Contains(err.Error(), "refus") {
+		t.Errorf("unknown command: err = %v, want the refusal", err)
+	}
+}
+
+// The daemon's modbus driver reads the register map over RTU.
+func TestModbusThroughPty(t *testing.T) {
+	s, ins := newTestServer(t, ServeOptions{Unit: unit(t, "mbar")})
+	dev := servePTY(t, func(p *PTY) error { return s.ServeRTU(p.Master, 5) })
+	ml, err := drivers.OpenModbus(drivers.ModbusConfig{Name: "sim-rtu", RTU: &drivers.SerialConfig{Device: dev, Baud: 19200,
+		Parity: "even", Timeout: 300 * time.Millisecond}}, slog.New(slog.NewTextHandler(t.Output(), nil)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { ml.Close() })
+	read := func(mo drivers.ModbusOptions) (drivers.Reading, error) {
+		d, err := drivers.NewModbus(ml, drivers.Options{Gauge: "g", Modbus: mo})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return d.Read(context.Background())
+	}
+	if r, err := read(drivers.ModbusOptions{Unit: 5, Table: "input", Address: 2, Type: "float32"}); err != nil || relErr(r.Raw, 22) > 1e-6 {
+		t.Errorf("channel 2 value = %v, %v; want 22 °C", r.Raw, err)
+	}
+	if r, err := read(drivers.ModbusOptions{Unit: 5, Table: "input", Address: StatusBase + 2, Type: "uint16"}); err != nil || r.Raw != 4 {
+		t.Errorf("channel 3 status = %v, %v; want 4 (off)", r.Raw, err)
+	}
+	if err := ins[1].Fail(ModeSilent); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := read(drivers.ModbusOptions{Unit: 5, Table: "input", Address: 2, Type: "float32"}); err == nil || !strings.Contains(err.Error(), "device failure") {
+		t.Errorf("silent channel: err = %v, want the server device failure exception", err)
+	}
+}
