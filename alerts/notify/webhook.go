@@ -90,4 +90,3 @@ func (e *StatusError) Error() string {
 	}
 	return msg
 }
-
