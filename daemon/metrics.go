@@ -42,6 +42,7 @@ func newMetrics(d *Daemon) *metrics {
 		version.NewCollector("holdfast"),
 		m.polls, m.pollErrors, m.skipped,
 		&liveCollector{d: d},
+		storeCollector{d: d},
 	)
 	return m
 }
