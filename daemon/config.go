@@ -34,6 +34,7 @@ type HTTPConfig struct {
 type StoreConfig struct {
 	Dir        string   `yaml:"dir"`         // data directory; holds holdfast.db
 	FlushEvery Duration `yaml:"flush_every"` // batch interval; default 1s
+	Retention  Duration `yaml:"retention"`   // delete samples older than this (whole chunks); 0 keeps everything
 }
 
 // LinkConfig is one physical connection. Exactly one kind is set.

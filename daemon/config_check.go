@@ -65,6 +65,8 @@ func check(cfg *Config, prior []Problem) []Problem {
 		v.problem("http.listen", "want host:port such as 127.0.0.1:9781, got %q", cfg.HTTP.Listen)
 	}
 	v.expect(cfg.Store.Dir != "", "store.dir", "missing; say where samples are kept, e.g. dir: /var/lib/holdfast")
+	v.expect(cfg.Store.Retention == 0 || cfg.Store.Retention.D() >= 24*time.Hour, "store.retention",
+		"keep at least a day of samples (e.g. retention: 30d), got %s", cfg.Store.Retention.D())
 	if cfg.Store.FlushEvery == 0 {
 		cfg.Store.FlushEvery = Duration(defaultFlushEvery)
 	}

@@ -126,6 +126,7 @@ func (d *Daemon) Run(parent context.Context) error {
 	wg.Go(func() { d.flushLoop(ctx) })
 	wg.Go(func() { d.alarmLoop(ctx) })
 	wg.Go(func() { d.notifyLoop(ctx) })
+	wg.Go(func() { d.retentionLoop(ctx) })
 	d.log.Info("daemon started", "chamber", d.cfg.Chamber.Name, "gauges", len(d.gauges), "listen", d.Addr())
 	<-ctx.Done()
 	shut, done := context.WithTimeout(context.Background(), 3*time.Second)

@@ -138,3 +138,25 @@ func TestGaugeDownAfterMisses(t *testing.T) {
 		}
 	})
 }
+
+// Retention deletes whole chunks older than the limit and keeps the rest.
+func TestRetentionDeletesOldSamples(t *testing.T) {
+	g := fakeGauge("p", time.Second, nil)
+	d := testDaemon(t, g)
+	old := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
+	for i := range 3000 {
+		d.store.Append("p", store.Point{At: old.Add(time.Duration(i) * time.Minute), Raw: 1, Value: 1})
+	}
+	if err := d.store.Flush(); err != nil {
+		t.Fatal(err)
+	}
+	d.applyRetention(old.Add(40 * time.Hour))
+	n, err := d.store.Count("p")
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 3000 minutes of samples; those wholly before 40 h go, a straddling chunk stays.
+	if n >= 3000 || n < 3000-40*60 {
+		t.Errorf("%d samples left of 3000 after deleting those before 40 h; want between %d and 2999", n, 3000-40*60)
+	}
+}
