@@ -100,6 +100,10 @@ type GaugeConfig struct {
 	// Combine makes a virtual gauge that blends these gauges over their
 	// ranges; it has no link or driver of its own.
 	Combine []string `yaml:"combine"`
+	// Ranges gives each member of a combined gauge the pressures it is trusted over.
+	Ranges MemberRanges `yaml:"ranges"`
+	// Calibration says whether stored calibrations apply: active (default) or none.
+	Calibration *GaugeCalibration `yaml:"calibration"`
 
 	// Instruments on a serial or TCP link (driver: ascii, scpi or modbus).
 	Exchange   []*StepConfig      `yaml:"exchange"` // ascii: the steps of one read

@@ -229,6 +229,7 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 		v.expect(wantKind == "" || g.Kind == wantKind, path+".kind", "a %s measures %s, got kind %q", g.Instrument, wantKind, g.Kind)
 		v.expect(g.Digits >= 0 && g.Digits <= 15, path+".digits", "want 1 to 15 significant digits, got %d", g.Digits)
 	}
+	v.calibration(name, g)
 }
 
 func gaugeDim(kind string) calib.Dimension {

@@ -38,7 +38,8 @@ type gauge struct {
 	dim  calib.Dimension
 	unit calib.Unit
 	drv  drivers.Driver
-	fed  []*gauge // gauges whose values come in this gauge's exchange (from:)
+	fed  []*gauge   // gauges whose values come in this gauge's exchange (from:)
+	live *gaugeLive // calibration and combined-gauge state; see calib.go
 
 	mu       sync.Mutex
 	transfer calib.Transfer // the active calibration, or the instrument's own curve

@@ -27,7 +27,11 @@ type Audit struct {
 	Samples  int       `json:"samples,omitempty"`
 	Changed  int       `json:"changed,omitempty"`
 	Previous []Run     `json:"previous,omitempty"`
-	Note     string    `json:"note,omitempty"`
+	// KeptFlags counts samples left as stored because their quality was
+	// flagged (a sensor fault, the instrument off, or a range flag).
+	KeptFlags int    `json:"kept_flags,omitempty"`
+	Status    string `json:"status,omitempty"` // reprocess: started, done, or failed: why
+	Note      string `json:"note,omitempty"`
 }
 
 // A Run is a stretch of consecutive stored samples that one calibration produced.
@@ -45,6 +49,24 @@ func (s *Store) AddAudit(a Audit) (Audit, error) {
 		return Audit{}, fmt.Errorf("add audit record for %s: %w", a.Gauge, err)
 	}
 	return a, nil
+}
+
+// UpdateAudit rewrites the stored record a.ID (a reprocess that finished).
+func (s *Store) UpdateAudit(a Audit) error {
+	err := s.db.Update(func(tx *bolt.Tx) error {
+		b, err := sub(tx, bucketAudit, true)
+		if err != nil {
+			return err
+		}
+		if b.Get(key64(a.ID)) == nil {
+			return fmt.Errorf("audit record %d: %w", a.ID, ErrNotFound)
+		}
+		return putJSON(b, key64(a.ID), a)
+	})
+	if err != nil {
+		return fmt.Errorf("update audit record %d: %w", a.ID, err)
+	}
+	return nil
 }
 
 func addAudit(tx *bolt.Tx, a Audit) error { return addAuditRet(tx, &a) }

@@ -27,6 +27,7 @@ type Point struct {
 	RawStdDev float64 `json:"raw_stddev"`
 	// Drift is the relative change over the window of the trend line.
 	Drift    float64   `json:"drift_relative"`
+	DriftSE  float64   `json:"drift_se_relative"` // its standard error: a drift within about 2 of these is noise
 	Note     string    `json:"note,omitempty"`
 	Excluded string    `json:"excluded,omitempty"` // why it is left out of fits; empty when used
 	Changed  time.Time `json:"changed,omitzero"`   // when it was excluded

@@ -1,0 +1,331 @@
+package daemon
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"net/http"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"holdfast/calib"
+	"holdfast/daemon/calibstore"
+	"holdfast/daemon/store"
+	"holdfast/drivers/sim"
+)
+
+// The invented bench: a small isolated vessel, pumps off, vented in steps
+// to pressures that then hold exactly (no leak, no outgassing), then pumped
+// down again. The Pirani under test is the simulator's, whose curve is the
+// worked example of REFERENCES.md §5b (a = 0.5 mW/Pa, p_t = 100 Pa).
+const liveConfig = `
+chamber: {name: cal-bench, volume: 30 L}
+http: {listen: "127.0.0.1:0", token_file: TOKEN}
+store: {dir: DIR}
+links:
+  bench:
+    simulator:
+      start_pressure: 0.5 Pa
+      rough_pump: {speed: 5 m3/h, ultimate: 1 Pa}
+      seed: 11
+      timeline:
+        - {after: 0s, pump: "off"}
+        - {after: 0s, valve: closed}
+        - {after: 10m, vent: 2 Pa}
+        - {after: 20m, vent: 85.318 Pa}
+        - {after: 30m, vent: 200 Pa}
+        - {after: 40m, vent: 1000 Pa}
+        - {after: 50m, vent: 10 Pa}
+        - {after: 60m, valve: open}
+        - {after: 60m, pump: "on"}
+gauges:
+  pirani:
+    link: bench
+    driver: sim
+    instrument: pirani
+    kind: pressure
+    digits: 6
+    calibration:
+      use: active
+      reference_fluid: {name: test oil, density: 870 kg/m3}
+  cdg: {link: bench, driver: sim, instrument: cdg, full_scale: 1000 Pa, kind: pressure, digits: 6}
+  chamber:
+    combine: [pirani, cdg]
+    ranges: {pirani: [0.1 Pa, 5 kPa], cdg: [20 Pa, 1.1 kPa]}
+`
+
+// holds are the held pressures (Pa) and when each hold ends.
+var holds = []struct {
+	p   float64
+	end time.Duration
+}{{0.5, 10 * time.Minute}, {2, 20 * time.Minute}, {85.318, 30 * time.Minute}, {200, 40 * time.Minute}, {1000, 50 * time.Minute}, {10, 60 * time.Minute}}
+
+type liveBench struct {
+	t     *testing.T
+	d     *Daemon
+	clock *sim.Clock
+	start time.Time
+	token string
+	stop  func()
+}
+
+func startBench(t *testing.T, dir string, start time.Time, speed float64) *liveBench {
+	t.Helper()
+	tok := filepath.Join(dir, "token")
+	if err := os.WriteFile(tok, []byte("bench-token-0123456789\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	text := strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(liveConfig)
+	cfg, err := ParseConfig("live.yaml", []byte(text))
+	if err != nil {
+		t.Fatal(err)
+	}
+	clk := sim.NewClock(start, speed)
+	d, err := New(cfg, Options{Clock: clk})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan error, 1)
+	go func() { done <- d.Run(ctx) }()
+	b := &liveBench{t: t, d: d, clock: clk, start: start, token: "bench-token-0123456789"}
+	b.stop = func() {
+		cancel()
+		if err := <-done; err != nil {
+			t.Errorf("Run: %v", err)
+		}
+	}
+	return b
+}
+
+// waitUntil waits (on the wall clock) for the simulated clock to pass at.
+func (b *liveBench) waitUntil(at time.Time) {
+	deadline := time.Now().Add(30 * time.Second)
+	for b.clock.Now().Before(at) {
+		if time.Now().After(deadline) {
+			b.t.Fatalf("simulated clock stuck before %s", at)
+		}
+		time.Sleep(10 * time.Millisecond) // waiting for the simulated chamber, not timing logic
+	}
+}
+
+// call sends a request to the API and decodes the reply; it returns the status.
+func (b *liveBench) call(method, path string, body, out any) int {
+	b.t.Helper()
+	var rd io.Reader
+	if body != nil {
+		buf, _ := json.Marshal(body)
+		rd = bytes.NewReader(buf)
+	}
+	req, _ := http.NewRequest(method, "http://"+b.d.Addr()+path, rd)
+	req.Header.Set("Authorization", "Bearer "+b.token)
+	resp, err := http.DefaultClient.Do(req)
+	if err != nil {
+		b.t.Fatal(err)
+	}
+	defer resp.Body.Close()
+	raw, _ := io.ReadAll(resp.Body)
+	if out != nil && resp.StatusCode < 300 {
+		if err := json.Unmarshal(raw, out); err != nil {
+			b.t.Fatalf("%s %s: %v in %s", method, path, err, raw)
+		}
+	}
+	if e, ok := out.(*apiErr); ok {
+		json.Unmarshal(raw, e)
+	}
+	return resp.StatusCode
+}
+
+type apiErr struct{ Error string }
+
+func (b *liveBench) point(req pointRequest) calibstore.Point {
+	b.t.Helper()
+	var p calibstore.Point
+	if code := b.call("POST", "/api/v1/calibrations/points", req, &p); code != http.StatusCreated {
+		var e apiErr
+		b.call("POST", "/api/v1/calibrations/points", req, &e)
+		b.t.Fatalf("point %+v: status %d: %s", req, code, e.Error)
+	}
+	return p
+}
+
+func ptr[T any](v T) *T { return &v }
+
+func TestLiveCalibrationWorkflow(t *testing.T) {
+	dir := t.TempDir()
+	start := time.Date(2026, 3, 2, 8, 0, 0, 0, time.UTC)
+	b := startBench(t, dir, start, 600)
+	b.waitUntil(start.Add(61 * time.Minute))
+
+	// Points at the end of each hold, averaged over the last minute.
+	var ids []uint64
+	for i, h := range holds {
+		req := pointRequest{Gauge: "pirani", Reference: ptr(h.p), At: start.Add(h.end - 30*time.Second)}
+		if h.p == 85.318 {
+			// A 1 cm column of a 870 kg/m3 oil under standard gravity:
+			// 85.318 Pa (REFERENCES.md §2b).
+			req = pointRequest{Gauge: "pirani", ColumnHeight: ptr(0.01), At: req.At}
+		}
+		p := b.point(req)
+		if h.p == 85.318 && (math.Abs(p.Reference-85.318) > 0.01 || !strings.Contains(p.Source, "test oil")) {
+			t.Errorf("column point: reference %g Pa from %q; want 85.318 Pa (REFERENCES.md §2b) in the configured oil", p.Reference, p.Source)
+		}
+		if p.Samples < 50 || p.Window != time.Minute {
+			t.Errorf("point %d: %d samples over %s; want about 60 over 1m", i, p.Samples, p.Window)
+		}
+		ids = append(ids, p.ID)
+	}
+	// The capacitance gauge as reference over the same window gives the held pressure.
+	ref := b.point(pointRequest{Gauge: "pirani", ReferenceGauge: "cdg", At: start.Add(40*time.Minute - 30*time.Second), Note: "against the cdg"})
+	if math.Abs(ref.Reference-200)/200 > 0.002 {
+		t.Errorf("reference gauge gives %g Pa; want the held 200 Pa", ref.Reference)
+	}
+	// During the pump-down the point is refused, saying how much it drifts.
+	var e apiErr
+	code := b.call("POST", "/api/v1/calibrations/points", pointRequest{Gauge: "pirani", Reference: ptr(500.0), At: start.Add(60*time.Minute + 40*time.Second)}, &e)
+	if code != http.StatusConflict || !strings.Contains(e.Error, "still drifting") || !strings.Contains(e.Error, "wait") {
+		t.Errorf("point during pump-down: %d %q; want 409 still drifting, with a wait", code, e.Error)
+	}
+
+	// Fit: the heat-loss parameters come back as §5b's.
+	var rec calibJSON
+	if code := b.call("POST", "/api/v1/calibrations/fit", fitRequest{Gauge: "pirani", Model: "pirani", Points: ids, ReferenceUncertainty: 0.01}, &rec); code != http.StatusCreated {
+		t.Fatalf("fit: status %d", code)
+	}
+	want := map[string]float64{"s0": 2, "a_per_pa": 0.5, "pt_pa": 100} // REFERENCES.md §5b; S0 = 2 mW is the simulator's choice
+	for k, v := range want {
+		if got := rec.Calibration.Parameters[k]; math.Abs(got-v)/v > 0.02 {
+			t.Errorf("fitted %s = %g; want %g within 2 %%", k, got, v)
+		}
+	}
+	if rec.State != "inactive" || rec.Calibration.Fit.Points != len(ids) {
+		t.Errorf("new version: state %s, %d points; want inactive, %d", rec.State, rec.Calibration.Fit.Points, len(ids))
+	}
+
+	liveCombined(t, b) // before reprocessing changes the Pirani's stored values
+	liveActivateAndReprocess(t, b, rec, ids)
+	b.stop()
+
+	// Restarted, the daemon applies the stored active version at once.
+	b2 := startBench(t, dir, start.Add(2*time.Hour), 600)
+	defer b2.stop()
+	active, _ := b2.d.calibs().Active()
+	g := b2.d.gaugeNamed("pirani")
+	g.mu.Lock()
+	id := g.calID
+	g.mu.Unlock()
+	if id == 0 || id != active["pirani"] {
+		t.Errorf("after restart pirani applies calibration %d; the store's active one is %d", id, active["pirani"])
+	}
+	var gone activateJSON
+	if code := b2.call("POST", "/api/v1/calibrations/retire", map[string]string{"gauge": "pirani", "note": "end of test"}, &gone); code != 200 || gone.Replaced != id {
+		t.Errorf("retire: %d, replaced %d; want 200, %d", code, gone.Replaced, id)
+	}
+	g.mu.Lock()
+	id = g.calID
+	g.mu.Unlock()
+	if id != 0 {
+		t.Errorf("after retire pirani applies calibration %d; want 0 (its own curve)", id)
+	}
+}
+
+// liveActivateAndReprocess fits a second version as if the vessel held
+// argon (Pirani gas factor 1.7 in the linear range, REFERENCES.md §5a:
+// true = 1.7 × indicated, which on the heat-loss curve is exactly A/1.7
+// and 1.7·p_t), activates it and sees the live value change, then
+// reprocesses the holds with the first version and checks the audit record.
+func liveActivateAndReprocess(t *testing.T, b *liveBench, first calibJSON, holdIDs []uint64) {
+	var argon []uint64
+	for _, h := range holds[:3] {
+		p := b.point(pointRequest{Gauge: "pirani", Reference: ptr(1.7 * h.p), At: b.start.Add(h.end - 30*time.Second), Note: "argon scenario"})
+		argon = append(argon, p.ID)
+	}
+	var second calibJSON
+	b.call("POST", "/api/v1/calibrations/fit", fitRequest{Gauge: "pirani", Model: "heat-loss", Points: argon}, &second)
+	if got := second.Calibration.Parameters["pt_pa"]; math.Abs(got-170)/170 > 0.05 {
+		t.Errorf("argon fit p_t = %g Pa; want 1.7 × 100 Pa", got)
+	}
+	var act activateJSON
+	if code := b.call("POST", fmt.Sprintf("/api/v1/calibrations/%d/activate", second.ID), nil, &act); code != 200 || act.Replaced != 0 {
+		t.Fatalf("activate: %d, replaced %d", code, act.Replaced)
+	}
+	if code := b.call("POST", fmt.Sprintf("/api/v1/calibrations/%d/activate", second.ID), nil, nil); code != 200 {
+		t.Errorf("activating the active version again: %d; want 200 and no change", code)
+	}
+	after := b.clock.Now()
+	b.waitUntil(after.Add(5 * time.Second))
+	g := b.d.gaugeNamed("pirani")
+	v := g.view(b.clock.Now())
+	builtin, _ := calib.HeatLoss{S0: 2, A: 0.5, Pt: 100}.Apply(v.last.Raw)
+	applied, _ := second.Calibration.Apply(v.last.Raw)
+	if v.last.Value != applied || math.Abs(v.last.Value/builtin-1.7) > 0.05 {
+		t.Errorf("live value %g Pa for raw %g; want the new version's %g, 1.7 × the instrument's %g", v.last.Value, v.last.Raw, applied, builtin)
+	}
+	var last store.Point
+	b.d.store.Range("pirani", after.Add(time.Second), b.clock.Now(), func(p store.Point) bool { last = p; return true })
+	if last.Calibration != second.ID {
+		t.Errorf("sample stored after activation carries calibration %d; want %d", last.Calibration, second.ID)
+	}
+
+	// Reprocess the holds with the first version; raw values stay, values follow it.
+	from, to := b.start, b.start.Add(60*time.Minute)
+	var a calibstore.Audit
+	if code := b.call("POST", "/api/v1/calibrations/reprocess", reprocessRequest{Gauge: "pirani", Calibration: first.ID, From: from, To: to, Note: "holds"}, &a); code != 200 {
+		t.Fatalf("reprocess: %d", code)
+	}
+	if a.Status != "done" || a.Samples < 3000 || a.Changed == 0 || len(a.Previous) != 1 || a.Previous[0].Calibration != 0 || a.Previous[0].Samples != a.Samples {
+		t.Errorf("audit %+v; want done, every sample of the hour from calibration 0", a)
+	}
+	n, bad := 0, 0
+	b.d.store.Range("pirani", from, to, func(p store.Point) bool {
+		n++
+		want, err := first.Calibration.Apply(p.Raw)
+		if p.Quality == 0 && (err != nil || p.Value != want || p.Calibration != first.ID) {
+			bad++
+		}
+		return true
+	})
+	if n != a.Samples || bad > 0 {
+		t.Errorf("after reprocess: %d samples (audit says %d), %d not from calibration %d", n, a.Samples, bad, first.ID)
+	}
+	var audits []calibstore.Audit
+	b.call("GET", "/api/v1/calibrations/audit?gauge=pirani", nil, &audits)
+	if len(audits) != 2 || audits[0].Action != "activate" || audits[1].Action != "reprocess" {
+		t.Errorf("audit trail %+v; want activate then reprocess", audits)
+	}
+}
+
+// liveCombined checks the virtual gauge against the held pressures.
+func liveCombined(t *testing.T, b *liveBench) {
+	for _, tc := range []struct {
+		end      time.Duration
+		want, to float64 // relative tolerance: four standard deviations of one sample
+		only     bool    // only the Pirani is in range: the blend is its value
+	}{{20 * time.Minute, 2, 0.05, true}, {40 * time.Minute, 200, 0.01, false}} {
+		at := b.start.Add(tc.end - 10*time.Second)
+		var c, p store.Point
+		b.d.store.Range("chamber", at, at.Add(2*time.Second), func(x store.Point) bool { c = x; return false })
+		b.d.store.Range("pirani", c.At.Add(-3*time.Second), c.At.Add(1), func(x store.Point) bool { p = x; return true })
+		if c.Quality != 0 || math.Abs(c.Value-tc.want)/tc.want > tc.to {
+			t.Errorf("combined at %s: %g Pa (quality %d); want %g Pa", tc.end, c.Value, c.Quality, tc.want)
+		}
+		if tc.only && math.Abs(c.Value-p.Value) > 1e-12*p.Value {
+			t.Errorf("combined at %s: %g Pa; want the Pirani's own %g Pa (the cdg is out of its range)", tc.end, c.Value, p.Value)
+		}
+	}
+	var gauges []gaugeJSON
+	b.call("GET", "/api/v1/gauges", nil, &gauges)
+	found := false
+	for _, g := range gauges {
+		found = found || g.Gauge == "chamber"
+	}
+	if !found {
+		t.Errorf("/api/v1/gauges lacks the combined gauge: %+v", gauges)
+	}
+}
