@@ -239,3 +239,19 @@ func appendShown(out []byte, sh shown) []byte {
 	out = append(out, asciiStatus[sh.status], ',')
 	return append(out, formatValue(sh.value, sh.digits)...)
 }
+
+// Request returns cmd (such as "?P1") as this server expects to receive
+// it: with its address and checksum, and the CR terminator.
+func (s *Server) Request(cmd string) []byte {
+	var out []byte
+	if s.opts.Address != "" {
+		out = append(out, '@')
+		out = append(out, s.opts.Address...)
+	}
+	out = append(out, cmd...)
+	if s.opts.Checksum {
+		out = append(out, '*')
+		out = append(out, hexByte(drivers.Sum8(out))...)
+	}
+	return append(out, '\r')
+}

@@ -217,3 +217,20 @@ func TestFormatValue(t *testing.T) {
 		}
 	}
 }
+
+// What Request builds, Answer accepts: the address and checksum rules are
+// the same on both sides.
+func TestRequestIsAnswered(t *testing.T) {
+	for _, o := range []ServeOptions{{}, {Address: "12"}, {Checksum: true}, {Address: "A1", Checksum: true}} {
+		s, _ := newTestServer(t, o)
+		req := s.Request("?C")
+		got := s.Answer(bytes.TrimSuffix(req, []byte("\r")))
+		if got == nil || got[0] == nak {
+			t.Errorf("%+v: Request = %q, Answer = %q", o, req, got)
+		}
+	}
+	s, _ := newTestServer(t, ServeOptions{Address: "03", Checksum: true})
+	if got := string(s.Request("?C")); got != "@03?C*4F\r" { // the sum worked out in TestAnswerAddress
+		t.Errorf("Request(?C) = %q, want @03?C*4F\\r", got)
+	}
+}

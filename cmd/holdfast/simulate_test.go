@@ -1,0 +1,219 @@
+//go:build linux
+
+package main
+
+import (
+	"bytes"
+	"context"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"holdfast/daemon"
+	"holdfast/drivers"
+)
+
+// bannerWriter collects a command's output and closes ready once want has
+// been printed.
+type bannerWriter struct {
+	mu    sync.Mutex
+	buf   bytes.Buffer
+	want  string
+	ready chan struct{}
+	once  sync.Once
+}
+
+func newBannerWriter(want string) *bannerWriter {
+	return &bannerWriter{want: want, ready: make(chan struct{})}
+}
+
+func (w *bannerWriter) Write(p []byte) (int, error) {
+	w.mu.Lock()
+	defer w.mu.Unlock()
+	w.buf.Write(p)
+	if strings.Contains(w.buf.String(), w.want) {
+		w.once.Do(func() { close(w.ready) })
+	}
+	return len(p), nil
+}
+
+func (w *bannerWriter) String() string {
+	w.mu.Lock()
+	defer w.mu.Unlock()
+	return w.buf.String()
+}
+
+func example(name string) string { return filepath.Join("..", "..", "deploy", "examples", name) }
+
+// startSimulate runs holdfast simulate with args until the test ends and
+// returns its output once the banner is printed.
+func startSimulate(t *testing.T, args ...string) *bannerWriter {
+	t.Helper()
+	ctx, cancel := context.WithCancel(context.Background())
+	out, errOut := newBannerWriter("Ctrl-C stops"), &bytes.Buffer{}
+	done := make(chan error, 1)
+	go func() { done <- run(ctx, append([]string{"simulate"}, args...), out, errOut) }()
+	stop := func() error {
+		cancel()
+		select {
+		case err := <-done:
+			return err
+		case <-time.After(10 * time.Second): // a bound on a hang, not a timing check
+			t.Fatal("simulate did not return within 10 s of its context ending")
+		}
+		return nil
+	}
+	select {
+	case <-out.ready:
+	case err := <-done:
+		t.Fatalf("simulate returned before serving: %v\nstdout:\n%s\nstderr:\n%s", err, out, errOut)
+	case <-time.After(10 * time.Second):
+		t.Fatalf("no banner within 10 s; stdout:\n%s", out)
+	}
+	t.Cleanup(func() {
+		if err := stop(); err != nil {
+			t.Errorf("simulate: %v\nstderr:\n%s", err, errOut)
+		}
+	})
+	return out
+}
+
+// probeExample loads an example daemon config with its device moved to
+// dev and probes one gauge through it.
+func probeExample(t *testing.T, file, dev, gauge string) daemon.ProbeResult {
+	t.Helper()
+	cfg, err := daemon.LoadConfig(example(file))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, l := range cfg.Links {
+		for _, s := range []*daemon.SerialLinkConfig{l.Serial, l.ModbusRTU} {
+			if s != nil {
+				s.Device = dev
+			}
+		}
+	}
+	p, err := daemon.OpenProbe(cfg, gauge, nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer p.Close()
+	return p.Read(context.Background())
+}
+
+// The example pair: simulate serves pty-sim.yaml and the daemon's view,
+// pty-demo.yaml, reads every gauge, the ?ALL reply feeding three of them.
+func TestSimulateServesPtyDemo(t *testing.T) {
+	dev := filepath.Join(t.TempDir(), "holdfast-sim")
+	out := startSimulate(t, "--config", example("pty-sim.yaml"), "--pty", dev)
+	for _, want := range []string{"1  lock-cdg", "4  lock-wall", `"?P1\r" -> "2,`, `"?ALL\r" -> "1=`} {
+		if !strings.Contains(strings.Join(strings.Fields(out.String()), "  "), strings.Join(strings.Fields(want), "  ")) {
+			t.Errorf("banner lacks %q:\n%s", want, out)
+		}
+	}
+	// A second of wall time after the start the lock is still near
+	// atmosphere: the CDG (10 Torr) and the Pirani are over-range and the
+	// ionisation gauge is off; the wall is at the room's 21 °C.
+	for _, c := range []struct {
+		gauge  string
+		status drivers.Status
+	}{{"lock-cdg", drivers.StatusOverRange}, {"lock-pirani", drivers.StatusOverRange},
+		{"lock-ion", drivers.StatusOff}, {"lock-wall", drivers.StatusOK}} {
+		res := probeExample(t, "pty-demo.yaml", dev, c.gauge)
+		if res.Err != nil || res.Reading.Status != c.status {
+			t.Errorf("%s: reading %+v, err %v; want status %v", c.gauge, res.Reading, res.Err, c.status)
+		}
+	}
+	if res := probeExample(t, "pty-demo.yaml", dev, "lock-wall"); math.Abs(res.Sample.Value-21) > 1.5 {
+		t.Errorf("lock-wall = %v °C, want about 21", res.Sample.Value)
+	}
+}
+
+func TestSimulateServesModbus(t *testing.T) {
+	dev := filepath.Join(t.TempDir(), "holdfast-sim")
+	out := startSimulate(t, "--config", example("pty-sim.yaml"), "--pty", dev, "--protocol", "modbus", "--unit", "1")
+	if !strings.Contains(out.String(), "input 6-7, C") {
+		t.Errorf("banner lacks the register map:\n%s", out)
+	}
+	res := probeExample(t, "pty-modbus.yaml", dev, "lock-wall")
+	if res.Err != nil || math.Abs(res.Sample.Value-21) > 1.5 {
+		t.Errorf("lock-wall over Modbus: %+v, %v; want about 21 °C", res.Sample, res.Err)
+	}
+	// Near atmosphere the CDG's output is clipped at 1.1 full scale:
+	// 11 Torr is 14.67 mbar (1 Torr = 101325/760 Pa, REFERENCES.md §1b).
+	res = probeExample(t, "pty-modbus.yaml", dev, "lock-cdg")
+	if res.Err != nil || math.Abs(res.Reading.Raw-11.0*101325/760/100) > 1e-3 {
+		t.Errorf("lock-cdg over Modbus: raw %v, %v; want 14.67 mbar", res.Reading.Raw, res.Err)
+	}
+}
+
+// Ending simulate removes its link; a dangling link is replaced; a real
+// file, or a link to something that exists, is left alone.
+func TestSimulatePortLink(t *testing.T) {
+	dir := t.TempDir()
+	dev := filepath.Join(dir, "port")
+	if err := os.Symlink(filepath.Join(dir, "gone"), dev); err != nil {
+		t.Fatal(err)
+	}
+	var out bytes.Buffer
+	unlink, err := linkPort(dev, "/dev/null", &out)
+	if err != nil || !strings.Contains(out.String(), "stale link") {
+		t.Fatalf("replacing a dangling link: %v, output %q", err, out.String())
+	}
+	if target, _ := os.Readlink(dev); target != "/dev/null" {
+		t.Errorf("link points at %q, want /dev/null", target)
+	}
+	if _, err := linkPort(dev, "/dev/zero", &out); err == nil || !strings.Contains(err.Error(), "exists") {
+		t.Errorf("a live link: err = %v, want a refusal", err)
+	}
+	if err := unlink(); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := os.Lstat(dev); !os.IsNotExist(err) {
+		t.Errorf("link still there after unlink: %v", err)
+	}
+	if err := os.WriteFile(dev, []byte("notes"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := linkPort(dev, "/dev/null", &out); err == nil || !strings.Contains(err.Error(), "regular file") {
+		t.Errorf("a regular file: err = %v, want a refusal", err)
+	}
+	if b, _ := os.ReadFile(dev); string(b) != "notes" {
+		t.Errorf("the file now holds %q; it must be untouched", b)
+	}
+	if entries, _ := os.ReadDir(dir); len(entries) != 1 {
+		t.Errorf("directory holds %d entries, want only the file (no temporary link left)", len(entries))
+	}
+}
+
+func TestSimulateUsageErrors(t *testing.T) {
+	dev := filepath.Join(t.TempDir(), "port")
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{nil, "needs --config FILE and --pty PATH"},
+		{[]string{"--config", "x.yaml", "--pty", dev, "--protocol", "serial"}, "--protocol must be ascii or modbus"},
+		{[]string{"--config", "x.yaml", "--pty", dev, "--speed", "0"}, "--speed must be above 0"},
+		{[]string{"--config", "x.yaml", "--pty", dev, "--unit", "248"}, "--unit must be 1 to 247"},
+		{[]string{"--config", "x.yaml", "--pty", dev, "--pressure-unit", "L"}, "--pressure-unit"},
+		{[]string{"--config", "x.yaml", "--pty", dev, "--protocol", "modbus", "--checksum"}, "belong to the ascii protocol"},
+		{[]string{"--config", "x.yaml", "--pty", dev, "extra"}, "takes no arguments"},
+		{[]string{"--config", example("pty-sim.yaml"), "--pty", dev, "--link", "nope"}, `no simulator link "nope" (simulator links: bench)`},
+		{[]string{"--config", example("pty-demo.yaml"), "--pty", dev}, "has no simulator link"},
+		{[]string{"--config", example("pty-sim.yaml"), "--pty", dev, "--address", "a b"}, "address: letters and digits only"},
+	} {
+		var out, errOut bytes.Buffer
+		err := run(context.Background(), append([]string{"simulate"}, c.args...), &out, &errOut)
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("simulate %q: err = %v, want %q", c.args, err, c.want)
+		}
+	}
+	if _, err := os.Lstat(dev); !os.IsNotExist(err) {
+		t.Errorf("a failed simulate left %s behind", dev)
+	}
+}
