@@ -1,120 +1,205 @@
 package alerts
 
 import (
+	"errors"
+	"fmt"
+	"slices"
 	"sync"
 	"time"
 
 	"holdfast/calib"
 )
 
-// An EventKind says what happened to an alarm.
-type EventKind string
-
-// The events an Engine reports.
-const (
-	LimitCrossed EventKind = "limit-crossed" // the condition became true; the on-delay runs
-	Raised       EventKind = "raised"        // the condition held for the on-delay
-	Cleared      EventKind = "cleared"       // the condition is no longer true
-)
-
-// An Event is one change of one alarm.
-type Event struct {
-	Kind     EventKind
-	Alarm    string
-	Gauge    string
-	Severity Severity
-	At       time.Time
-	Message  string
+// A Store keeps alarm state and history across restarts. Save writes the
+// changed states and the transition events of one step in one transaction,
+// so that after a crash the state and the history agree. Events that should
+// reach a person are kept as undelivered until Delivered is called with
+// their dedupe keys; Undelivered returns them after a restart.
+type Store interface {
+	Load() ([]Saved, error)
+	Save(states []Saved, events []Event) error
+	Delivered(keys []string) error
+	Undelivered() ([]Event, error)
 }
 
-// An AlarmStatus is one alarm's current condition, for metrics and the API.
-type AlarmStatus struct {
-	Alarm    string
-	Gauge    string
-	Severity Severity
-	Active   bool
-	Since    time.Time // when it became active
-	Raised   int       // times raised since start
-}
-
-type limitState struct {
-	rule     *Limit
-	armed    bool
-	pending  bool      // condition true, on-delay running
-	since    time.Time // when the condition became true
-	active   bool
-	activeAt time.Time
-	raised   int
-}
-
-// An Engine evaluates alarm rules on samples as they arrive. It is safe for
-// concurrent use: pollers call Observe, the metrics collector calls Status.
+// An Engine runs the alarm state machine over a set of alarms. It is safe
+// for concurrent use: pollers call Observe, the alarm loop calls Tick, the
+// API calls the operator actions, metrics call Status. It takes every time
+// from samples or from its callers, never from the wall clock.
+//
+// A new Engine decides nothing until Attach has restored the stored state,
+// so no transition is reported twice across a restart.
 type Engine struct {
-	mu      sync.Mutex
-	byGauge map[string][]*limitState
-	all     []*limitState
+	mu       sync.Mutex
+	byGauge  map[string][]*alarmState
+	byName   map[string]*alarmState
+	all      []*alarmState
+	store    Store
+	attached bool
+	saveErr  error
 }
 
-// NewEngine returns an engine for the given rules.
-func NewEngine(limits []*Limit) *Engine {
-	e := &Engine{byGauge: map[string][]*limitState{}}
-	for _, l := range limits {
-		st := &limitState{rule: l, armed: !l.WaitForNormal}
-		e.byGauge[l.Gauge] = append(e.byGauge[l.Gauge], st)
+// NewEngine returns an engine for the given alarms. Names must be unique.
+func NewEngine(alarms []*Alarm) *Engine {
+	e := &Engine{byGauge: map[string][]*alarmState{}, byName: map[string]*alarmState{}}
+	for _, a := range alarms {
+		st := newAlarmState(a)
+		for _, g := range a.Rule.Gauges() {
+			e.byGauge[g] = append(e.byGauge[g], st)
+		}
+		e.byName[a.Name] = st
 		e.all = append(e.all, st)
 	}
 	return e
 }
 
-// Observe evaluates every rule on gauge against s and returns what changed.
+// Attach restores the stored state of every alarm from st (nil keeps state
+// in memory only) and starts the engine. It returns the transitions that
+// were stored but not marked delivered before the last stop, for the caller
+// to hand to its notifiers again (their dedupe keys are unchanged).
+// Stored alarms that are no longer configured are left in the store.
+func (e *Engine) Attach(st Store) ([]Event, error) {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	e.store, e.attached = st, true
+	if st == nil {
+		return nil, nil
+	}
+	saved, err := st.Load()
+	if err != nil {
+		e.attached = false
+		return nil, fmt.Errorf("load alarm state: %w", err)
+	}
+	for _, s := range saved {
+		if a := e.byName[s.Alarm]; a != nil {
+			a.s = s
+		}
+	}
+	evs, err := st.Undelivered()
+	if err != nil {
+		return nil, fmt.Errorf("load undelivered alarm events: %w", err)
+	}
+	return evs, nil
+}
+
+// Observe evaluates every alarm fed by gauge against s and returns what
+// changed, after storing it.
 func (e *Engine) Observe(gauge string, s calib.Sample) []Event {
 	e.mu.Lock()
 	defer e.mu.Unlock()
+	if !e.attached {
+		return nil
+	}
 	var evs []Event
 	for _, st := range e.byGauge[gauge] {
-		evs = st.observe(s, evs)
+		evs = st.apply(st.a.Rule.Observe(gauge, s, st.s.Active), s.At, evs)
 	}
-	return evs
+	return e.commit(evs)
 }
 
-func (st *limitState) observe(s calib.Sample, evs []Event) []Event {
-	r := st.rule
-	ev := func(k EventKind, msg string) Event {
-		return Event{Kind: k, Alarm: r.Name, Gauge: r.Gauge, Severity: r.Severity, At: s.At, Message: msg}
+// Tick runs the time-driven part at now: rules that watch for silence,
+// delays that ran out without a new sample, shelving that expired.
+func (e *Engine) Tick(now time.Time) []Event {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	if !e.attached {
+		return nil
 	}
-	breached, known, limit, dir := r.breach(s)
-	switch {
-	case !known:
-		return evs // no value: hold the state; stale and fault rules speak for it
-	case !st.armed:
-		st.armed = !breached
-		return evs
-	case breached && !st.pending && !st.active:
-		st.pending, st.since = true, s.At
-		evs = append(evs, ev(LimitCrossed, r.describe(s, limit, dir)))
-	case !breached && (st.pending || st.active):
-		if st.active {
-			evs = append(evs, ev(Cleared, r.Gauge+" back within limits"))
+	var evs []Event
+	for _, st := range e.all {
+		if st.s.Shelved && !st.s.ShelvedUntil.IsZero() && !now.Before(st.s.ShelvedUntil) {
+			evs = st.unshelve(now, "the shelving expired", "", evs)
 		}
-		st.pending, st.active = false, false
+		if c := st.a.Rule.Tick(now, st.s.Active); c.Known {
+			evs = st.apply(c, now, evs)
+		} else if st.s.Pending && st.last.Known && st.last.Active != st.s.Active {
+			evs = st.settle(now, evs)
+		}
+		st.quiet(now)
+	}
+	return e.commit(evs)
+}
+
+// commit stores the dirty states and the transitions; the caller holds mu.
+func (e *Engine) commit(evs []Event) []Event {
+	var dirty []Saved
+	for _, st := range e.all {
+		if st.dirty {
+			dirty = append(dirty, st.s)
+			st.s.Raises = slices.Clone(st.s.Raises)
+			st.dirty = false
+		}
+	}
+	if e.store == nil || len(dirty) == 0 && len(evs) == 0 {
 		return evs
 	}
-	if st.pending && !st.active && s.At.Sub(st.since) >= r.OnDelay {
-		st.pending, st.active, st.activeAt = false, true, s.At
-		st.raised++
-		evs = append(evs, ev(Raised, r.describe(s, limit, dir)+" for "+s.At.Sub(st.since).Round(time.Second).String()))
+	var trans []Event
+	for _, ev := range evs {
+		if ev.Transition() {
+			trans = append(trans, ev)
+		}
 	}
+	e.saveErr = e.store.Save(dirty, trans)
 	return evs
 }
 
-// Status returns every alarm's condition, in rule order.
+// Delivered marks transitions as handed to the notifiers, by dedupe key.
+func (e *Engine) Delivered(keys ...string) error {
+	e.mu.Lock()
+	st := e.store
+	e.mu.Unlock()
+	if st == nil || len(keys) == 0 {
+		return nil
+	}
+	return st.Delivered(keys)
+}
+
+// StoreError returns the error of the last failed attempt to store alarm
+// state, or nil once a save succeeds again.
+func (e *Engine) StoreError() error {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	return e.saveErr
+}
+
+// Status returns every alarm's condition, in configuration order.
 func (e *Engine) Status() []AlarmStatus {
 	e.mu.Lock()
 	defer e.mu.Unlock()
 	out := make([]AlarmStatus, len(e.all))
 	for i, st := range e.all {
-		out[i] = AlarmStatus{Alarm: st.rule.Name, Gauge: st.rule.Gauge, Severity: st.rule.Severity,
-			Active: st.active, Since: st.activeAt, Raised: st.raised}
+		out[i] = st.status()
+	}
+	return out
+}
+
+// ErrUnknownAlarm reports an operator action on an alarm that is not configured.
+var ErrUnknownAlarm = errors.New("no such alarm")
+
+// ErrNoChange reports an operator action that does not apply in the alarm's state.
+var ErrNoChange = errors.New("nothing to change")
+
+// SetIsolated tells every rise-watch alarm that is not set to watch always
+// whether the chamber is isolated from its pumps.
+func (e *Engine) SetIsolated(on bool) {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	for _, st := range e.all {
+		if rw, ok := st.a.Rule.(*RiseWatch); ok {
+			rw.SetIsolated(on)
+		}
+	}
+}
+
+// RiseResults returns the newest analysis of each rise-watch alarm, by alarm name.
+func (e *Engine) RiseResults() map[string]RiseResult {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	out := map[string]RiseResult{}
+	for _, st := range e.all {
+		if rw, ok := st.a.Rule.(*RiseWatch); ok && rw.Last.Classification != "" {
+			out[st.a.Name] = rw.Last
+		}
 	}
 	return out
 }

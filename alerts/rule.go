@@ -8,57 +8,105 @@ import (
 	"holdfast/calib"
 )
 
-// A Severity ranks how urgently a person must act on an alarm.
-type Severity string
+// A Rule decides whether an alarm's condition holds. The Engine applies the
+// on- and off-delays, the states and the history; a rule only looks at
+// values. Observe is called with every sample of the gauges the rule names;
+// Tick with the engine's clock, for rules that depend on time passing (a
+// gauge falling silent). active tells whether the alarm is in alarm now, so
+// that a rule can apply a deadband on the way out.
+type Rule interface {
+	Kind() string
+	Gauges() []string
+	Observe(gauge string, s calib.Sample, active bool) Condition
+	Tick(now time.Time, active bool) Condition
+}
 
-// Limit is the simplest rule: the gauge's value above or below a set point
-// for at least OnDelay. Values are SI (Pa or °C).
+// A Condition is what a rule concluded. Known false means the input decides
+// nothing (a faulty sample for a limit rule): the alarm keeps its state.
+type Condition struct {
+	Known  bool
+	Active bool
+	Value  float64 // the deciding value, SI (NaN when none)
+	Limit  float64 // the limit it was held against, SI (NaN when none)
+	// ValueText and LimitText show Value and Limit in the user's unit.
+	ValueText, LimitText string
+	Unit                 string // symbol of that unit
+	Detail               string // what holds, in words: "above the 10 Pa limit"
+}
+
+func unknown() Condition { return Condition{Value: math.NaN(), Limit: math.NaN()} }
+
+// Limit is the limit rule: the gauge's value above Above or below Below
+// (SI, NaN for none). Once in alarm, the value must come back past the limit
+// by Deadband (SI, same dimension) before the condition clears, so a value
+// hovering at the limit does not chatter. An over-range sample is above any
+// upper limit, an under-range one below any lower limit; a sample with no
+// value decides nothing (stale and fault rules speak for it).
 type Limit struct {
-	Name     string
 	Gauge    string
-	Above    float64 // NaN: no upper limit
-	Below    float64 // NaN: no lower limit
-	OnDelay  time.Duration
-	Severity Severity
+	Above    float64
+	Below    float64
+	Deadband float64
 	Unit     calib.Unit // how messages show values and limits
 
 	// WaitForNormal arms the rule only once the value has been within its
 	// limits, so that a pump-down from atmosphere does not raise an alarm
 	// meant for a chamber that has reached vacuum.
 	WaitForNormal bool
+	armed         bool
 }
 
-// breach reports whether s violates the limit, and which one. A sample that
-// is over-range is above any upper limit; under-range is below any lower
-// limit. A sample with no value (fault, off) decides nothing.
-func (l *Limit) breach(s calib.Sample) (breached, known bool, limit float64, dir string) {
+// Kind returns "limit".
+func (l *Limit) Kind() string { return "limit" }
+
+// Gauges returns the one gauge the limit watches.
+func (l *Limit) Gauges() []string { return []string{l.Gauge} }
+
+// Tick decides nothing: a limit depends on samples only.
+func (l *Limit) Tick(time.Time, bool) Condition { return unknown() }
+
+// Observe compares s with the limits, with the deadband while active.
+func (l *Limit) Observe(_ string, s calib.Sample, active bool) Condition {
+	db := 0.0
+	if active {
+		db = l.Deadband
+	}
+	c := Condition{Known: true, Value: s.Value, Limit: math.NaN(), Unit: l.Unit.Symbol()}
+	c.ValueText = s.Quality.String()
 	switch s.Quality {
 	case calib.QualityOK:
-		if !math.IsNaN(l.Above) && s.Value > l.Above {
-			return true, true, l.Above, "above"
+		c.ValueText = calib.Format(s.Value, l.Unit)
+		switch {
+		case !math.IsNaN(l.Above) && s.Value > l.Above-db:
+			c.Active, c.Limit = s.Value > l.Above || active, l.Above
+		case !math.IsNaN(l.Below) && s.Value < l.Below+db:
+			c.Active, c.Limit = s.Value < l.Below || active, l.Below
 		}
-		if !math.IsNaN(l.Below) && s.Value < l.Below {
-			return true, true, l.Below, "below"
-		}
-		return false, true, 0, ""
 	case calib.QualityOverRange:
-		if !math.IsNaN(l.Above) {
-			return true, true, l.Above, "above"
-		}
-		return false, true, 0, ""
+		c.Value, c.Limit, c.Active = math.NaN(), l.Above, !math.IsNaN(l.Above)
 	case calib.QualityUnderRange:
-		if !math.IsNaN(l.Below) {
-			return true, true, l.Below, "below"
-		}
-		return false, true, 0, ""
+		c.Value, c.Limit, c.Active = math.NaN(), l.Below, !math.IsNaN(l.Below)
+	default:
+		return unknown()
 	}
-	return false, false, 0, ""
+	if !l.armed && l.WaitForNormal {
+		if c.Active {
+			return unknown()
+		}
+		l.armed = true
+	}
+	c.Detail = l.detail(&c)
+	return c
 }
 
-func (l *Limit) describe(s calib.Sample, limit float64, dir string) string {
-	v := s.Quality.String()
-	if s.Quality == calib.QualityOK {
-		v = calib.Format(s.Value, l.Unit)
+func (l *Limit) detail(c *Condition) string {
+	if math.IsNaN(c.Limit) {
+		return fmt.Sprintf("within limits (reads %s)", c.ValueText)
 	}
-	return fmt.Sprintf("%s %s limit %s (reads %s)", l.Gauge, dir, calib.Format(limit, l.Unit), v)
+	c.LimitText = calib.Format(c.Limit, l.Unit)
+	dir := "above"
+	if c.Limit == l.Below {
+		dir = "below"
+	}
+	return fmt.Sprintf("%s the %s limit (reads %s)", dir, c.LimitText, c.ValueText)
 }

@@ -3,29 +3,114 @@ package daemon
 import (
 	"context"
 	"log/slog"
-	"net/http"
+	"syscall"
+	"time"
 
 	"holdfast/alerts"
+	"holdfast/calib"
+	"holdfast/daemon/alarmstore"
 )
 
-// alarmLoop runs time-driven alarm work (stale rules, shelving expiry,
-// reminders) until ctx is done. Nothing is time-driven yet.
-func (d *Daemon) alarmLoop(ctx context.Context) { <-ctx.Done() }
+// Alarm loop timing: the engine's clock-driven work runs every alarmTick;
+// the daemon's own health (disk, store writes) is sampled every healthEvery.
+const (
+	alarmTick   = time.Second
+	healthEvery = 10 * time.Second
+)
 
-// alarmRoutes mounts the alarm API. There is none yet.
-func (d *Daemon) alarmRoutes(mux *http.ServeMux) {}
+// alarmLoop restores the alarm state from the store, hands undelivered
+// transitions to the notifiers again, then runs the time-driven alarm work
+// (stale and fault rules, delays, shelving expiry, health, hold tests)
+// until ctx is done.
+func (d *Daemon) alarmLoop(ctx context.Context) {
+	log := d.log.With("part", "alarms")
+	st, err := alarmstore.Open(d.store.Bolt())
+	var pending []alerts.Event
+	if err == nil {
+		pending, err = d.alarms.Attach(st)
+	}
+	if err != nil {
+		// Without its stored state the engine would re-send or forget
+		// alarms; it keeps deciding nothing and says so.
+		log.Error("alarm state not loaded; alarms are not evaluated", "err", err)
+		<-ctx.Done()
+		return
+	}
+	for _, ev := range pending {
+		d.deliver(ev)
+	}
+	var lastHealth time.Time
+	for {
+		now := d.clock.Now()
+		for _, ev := range d.alarms.Tick(now) {
+			d.alarmEvent(log, ev)
+		}
+		if now.Sub(lastHealth) >= healthEvery {
+			lastHealth = now
+			d.observeHealth(log, now)
+		}
+		d.holdTests(ctx, log, st, now)
+		select {
+		case <-ctx.Done():
+			return
+		case <-d.clock.After(alarmTick):
+		}
+	}
+}
 
+// observeHealth feeds the daemon's own health to the health alarms.
+func (d *Daemon) observeHealth(log *slog.Logger, now time.Time) {
+	d.flushMu.Lock()
+	failing := d.flushErr != nil
+	d.flushMu.Unlock()
+	if d.alarms.StoreError() != nil {
+		failing = true
+	}
+	samples := map[string]float64{alerts.HealthStoreWrites: b2f(failing)}
+	var fs syscall.Statfs_t
+	if err := syscall.Statfs(d.cfg.Store.Dir, &fs); err == nil && fs.Blocks > 0 {
+		samples[alerts.HealthDiskFree] = float64(fs.Bavail) / float64(fs.Blocks)
+	}
+	for g, v := range samples {
+		for _, ev := range d.alarms.Observe(g, calib.Sample{At: now, Value: v, Quality: calib.QualityOK}) {
+			d.alarmEvent(log, ev)
+		}
+	}
+}
+
+var eventKinds = map[alerts.EventKind]string{alerts.LimitCrossed: "limit-crossed", alerts.Raised: "alarm-raised", alerts.Cleared: "alarm-cleared"}
+
+// alarmEvent logs an engine event, hands transitions to the notifiers and
+// shows the event to whoever watches the daemon.
 func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
-	kind := map[alerts.EventKind]string{alerts.LimitCrossed: "limit-crossed", alerts.Raised: "alarm-raised", alerts.Cleared: "alarm-cleared"}[ev.Kind]
-	attrs := []any{"alarm", ev.Alarm, "gauge", ev.Gauge, "severity", string(ev.Severity), "detail", ev.Message}
+	attrs := []any{"alarm", ev.Alarm, "gauge", ev.Gauge, "severity", string(ev.Severity), "state", string(ev.State), "detail", ev.Message}
 	switch ev.Kind {
 	case alerts.Raised:
 		log.Error("alarm raised", attrs...)
 	case alerts.Cleared:
 		log.Info("alarm cleared", attrs...)
-	default:
+	case alerts.LimitCrossed:
 		log.Info("limit crossed", attrs...)
+	default:
+		log.Info("alarm "+string(ev.Kind), attrs...)
 	}
-	d.notify(ev)
+	if ev.Transition() {
+		d.deliver(ev)
+	}
+	kind, ok := eventKinds[ev.Kind]
+	if !ok {
+		kind = "alarm-" + string(ev.Kind)
+	}
 	d.emit(Event{At: ev.At, Kind: kind, Gauge: ev.Gauge, Alarm: ev.Alarm, Severity: string(ev.Severity), Message: ev.Message})
+}
+
+// deliver hands a stored transition to the notifiers and records that it
+// was handed over; a crash in between hands it over again after the
+// restart, under the same dedupe key.
+func (d *Daemon) deliver(ev alerts.Event) {
+	d.notify(ev)
+	if err := d.alarms.Delivered(ev.DedupeKey); err != nil {
+		d.log.Warn("could not record an alarm notification as handed over; it may be handed over again after a restart",
+			"alarm", ev.Alarm, "key", ev.DedupeKey, "err", err)
+	}
 }

@@ -7,21 +7,80 @@ import (
 	"holdfast/calib"
 )
 
-// limits turns the config's alarms into rules.
-func (d *Daemon) limits() []*alerts.Limit {
-	var out []*alerts.Limit
+// limits turns the config's alarms into the engine's alarms. (The name is
+// the seam daemon.New calls.)
+func (d *Daemon) limits() []*alerts.Alarm {
+	var out []*alerts.Alarm
 	for _, a := range d.cfg.Alarms {
-		g := d.cfg.Gauges[a.Gauge]
-		unit, _ := calib.ParseUnit(g.Unit, gaugeDim(g.Kind))
-		l := &alerts.Limit{Name: a.Name, Gauge: a.Gauge, Above: math.NaN(), Below: math.NaN(),
-			OnDelay: a.For.D(), Severity: alerts.Severity(a.Severity), Unit: unit, WaitForNormal: a.WaitForNormal}
-		if a.hasAbove {
-			l.Above = a.above
+		al := &alerts.Alarm{Name: a.Name, Gauge: a.Gauge, Severity: alerts.Severity(a.Severity), Message: a.Message,
+			OnDelay: a.For.D(), OffDelay: a.ClearAfter.D(), Rule: d.rule(a)}
+		if a.Health != "" {
+			al.Gauge = "holdfast"
 		}
-		if a.hasBelow {
-			l.Below = a.below
+		if c := a.Chatter; c != nil {
+			al.ChatterCount, al.ChatterWindow = c.Count, c.Window.D()
 		}
-		out = append(out, l)
+		out = append(out, al)
 	}
 	return out
+}
+
+func (d *Daemon) gaugeUnit(name string) calib.Unit {
+	g := d.cfg.Gauges[name]
+	if g == nil {
+		return calib.Unit{}
+	}
+	u, _ := calib.ParseUnit(g.Unit, gaugeDim(g.Kind))
+	return u
+}
+
+func (d *Daemon) rule(a *AlarmConfig) alerts.Rule {
+	unit := d.gaugeUnit(a.Gauge)
+	r := a.r
+	switch r.kind {
+	case "rate":
+		return &alerts.Rate{Gauge: a.Gauge, Window: a.Rate.Window.D(), Above: ifSet(r.rateAbove, r.hasRateA),
+			Below: ifSet(r.rateBel, r.hasRateB), Deadband: r.deadband, Unit: unit}
+	case "rise_watch":
+		rw := a.RiseWatch
+		u, _ := calib.ParseUnit(rw.Unit, calib.Throughput)
+		return &alerts.RiseWatch{Gauge: a.Gauge, Window: rw.Window.D(), Every: rw.Every.D(), MaxLeak: float64(rw.MaxLeak),
+			Volume: float64(d.cfg.Chamber.Volume), Always: rw.While == "always", Unit: u}
+	case "stale":
+		return &alerts.Stale{Gauge: a.Gauge, After: a.Stale.D()}
+	case "fault":
+		return &alerts.Fault{Gauge: a.Gauge, After: a.Fault.D()}
+	case "disagree":
+		return &alerts.Disagree{Gauge: a.Gauge, With: a.Disagree.With, Factor: a.Disagree.Factor, Diff: r.deadband,
+			MaxSkew: a.Disagree.Skew.D(), Unit: unit}
+	case "pump_down":
+		p := a.PumpDown
+		return &alerts.PumpDeadline{Gauge: a.Gauge, Start: float64(p.Start), Target: float64(p.Target), Within: p.Within.D(),
+			Guide: alerts.PumpDown{Volume: float64(d.cfg.Chamber.Volume), Speed: float64(p.Speed)}, Unit: unit}
+	case "hold_test":
+		u, _ := calib.ParseUnit(a.HoldTest.Unit, calib.Throughput)
+		return &alerts.HoldTest{Gauge: a.Gauge, Allowed: float64(a.HoldTest.AllowedLeak), Unit: u}
+	case "health":
+		if a.Health == "disk_free" {
+			return &alerts.Health{Check: alerts.HealthDiskFree, Below: r.below}
+		}
+		return &alerts.Health{Check: alerts.HealthStoreWrites}
+	}
+	l := &alerts.Limit{Gauge: a.Gauge, Above: ifSet(r.above, r.hasAbove), Below: ifSet(r.below, r.hasBelow),
+		Deadband: r.deadband, Unit: unit, WaitForNormal: a.WaitForNormal}
+	if r.deadbandRel {
+		ref := l.Above
+		if math.IsNaN(ref) {
+			ref = l.Below
+		}
+		l.Deadband = r.deadband * math.Abs(ref)
+	}
+	return l
+}
+
+func ifSet(v float64, ok bool) float64 {
+	if !ok {
+		return math.NaN()
+	}
+	return v
 }

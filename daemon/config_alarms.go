@@ -2,6 +2,7 @@ package daemon
 
 import (
 	"slices"
+	"strconv"
 	"strings"
 
 	"holdfast/calib"
@@ -9,48 +10,175 @@ import (
 
 var severities = []string{"low", "medium", "high", "critical"}
 
-// AlarmConfig is one alarm rule.
+// AlarmConfig is one alarm. Exactly one rule kind is set: a limit (above
+// and/or below), rate, rise_watch, stale, fault, disagree, pump_down or
+// health. The other keys tune the IEC 62682 state machine.
 type AlarmConfig struct {
-	Name     string   `yaml:"name"`
-	Gauge    string   `yaml:"gauge"`
-	Above    Text     `yaml:"above"` // a pressure or temperature, by the gauge's kind
-	Below    Text     `yaml:"below"`
-	For      Duration `yaml:"for"` // on-delay: the condition must hold this long
-	Severity string   `yaml:"severity"`
-	// WaitForNormal arms the alarm only once the value has been within its
-	// limits (after a pump-down, say).
+	Name     string `yaml:"name"`
+	Gauge    string `yaml:"gauge"` // not for health alarms
+	Severity string `yaml:"severity"`
+	// Message is a template: {alarm} {gauge} {value} {limit} {detail}
+	// {duration} {severity}.
+	Message    string         `yaml:"message"`
+	For        Duration       `yaml:"for"`         // on-delay: the condition must hold this long
+	ClearAfter Duration       `yaml:"clear_after"` // off-delay: and be gone this long to clear
+	Deadband   Text           `yaml:"deadband"`    // limit and rate: "0.5 Pa" or "5%" of the limit
+	Chatter    *ChatterConfig `yaml:"chatter"`
+
+	Above Text `yaml:"above"` // a pressure or temperature, by the gauge's kind
+	Below Text `yaml:"below"`
+	// WaitForNormal arms a limit only once the value has been within it
+	// (after a pump-down, say).
 	WaitForNormal bool `yaml:"wait_for_normal"`
 
-	above, below float64 // SI, resolved by the checker
-	hasAbove     bool
-	hasBelow     bool
+	Rate      *RateConfig      `yaml:"rate"`
+	RiseWatch *RiseWatchConfig `yaml:"rise_watch"`
+	Stale     Duration         `yaml:"stale"` // no sample for this long
+	Fault     Duration         `yaml:"fault"` // no valid reading (fault, off, no answer) for this long
+	Disagree  *DisagreeConfig  `yaml:"disagree"`
+	PumpDown  *PumpDownConfig  `yaml:"pump_down"`
+	Health    string           `yaml:"health"` // disk_free | store_writes
+	HoldTest  *HoldTestConfig  `yaml:"hold_test"`
+
+	r alarmResolved // SI values, resolved by the checker
+}
+
+// ChatterConfig says when an alarm counts as chattering: Count raises within Window.
+type ChatterConfig struct {
+	Count  int      `yaml:"count"`
+	Window Duration `yaml:"window"`
+}
+
+type alarmResolved struct {
+	kind               string
+	above, below       float64
+	hasAbove, hasBelow bool
+	deadband           float64
+	deadbandRel        bool
+	rateAbove, rateBel float64
+	hasRateA, hasRateB bool
+	dim                calib.Dimension
+}
+
+var alarmKinds = []string{"above/below", "rate", "rise_watch", "stale", "fault", "disagree", "pump_down", "health", "hold_test"}
+
+func (a *AlarmConfig) kinds() []string {
+	var k []string
+	for i, set := range []bool{a.Above.Set || a.Below.Set, a.Rate != nil, a.RiseWatch != nil, a.Stale != 0,
+		a.Fault != 0, a.Disagree != nil, a.PumpDown != nil, a.Health != "", a.HoldTest != nil} {
+		if set {
+			k = append(k, alarmKinds[i])
+		}
+	}
+	return k
 }
 
 func (v *checker) alarm(path string, a *AlarmConfig, seen map[string]int, i int) {
 	if a == nil {
-		v.problem(path, "empty alarm; want name, gauge and a limit")
+		v.problem(path, "empty alarm; want name, gauge and a rule such as above: 10 Pa")
 		return
 	}
 	v.expect(a.Name != "", path+".name", "missing; every alarm needs a name")
+	v.expect(!strings.ContainsAny(a.Name, "/ \t"), path+".name", "%q: names may not contain spaces or '/'", a.Name)
 	if j, dup := seen[a.Name]; dup && a.Name != "" {
 		v.problem(path+".name", "alarm %q is already defined at alarms[%d]", a.Name, j)
 	}
 	seen[a.Name] = i
-	g, ok := v.cfg.Gauges[a.Gauge]
-	v.expect(ok, path+".gauge", "unknown gauge %q (known: %s)", a.Gauge, strings.Join(sortedKeys(v.cfg.Gauges), ", "))
-	v.expect(a.Above.Set || a.Below.Set, path, "say when it fires: above or below a limit")
 	if a.Severity == "" {
 		a.Severity = "medium"
 	}
 	v.expect(slices.Contains(severities, a.Severity), path+".severity", "want one of %s, got %q", strings.Join(severities, ", "), a.Severity)
 	v.expect(a.For >= 0, path+".for", "must not be negative")
+	v.expect(a.ClearAfter >= 0, path+".clear_after", "must not be negative")
+	if c := a.Chatter; c != nil {
+		v.expect(c.Count >= 2, path+".chatter.count", "want at least 2 raises, got %d", c.Count)
+		v.expect(c.Window > 0, path+".chatter.window", "want a positive window such as 1 min")
+	}
+	k := a.kinds()
+	if len(k) != 1 {
+		v.problem(path, "want exactly one rule kind (%s), got %d: %s", strings.Join(alarmKinds, ", "), len(k), strings.Join(k, ", "))
+		return
+	}
+	a.r.kind = k[0]
+	if a.r.kind == "health" {
+		v.health(path, a)
+		return
+	}
+	g, ok := v.cfg.Gauges[a.Gauge]
+	v.expect(ok, path+".gauge", "unknown gauge %q (known: %s)", a.Gauge, strings.Join(sortedKeys(v.cfg.Gauges), ", "))
 	if !ok || g == nil || gaugeDim(g.Kind) == 0 {
 		return
 	}
-	a.above, a.hasAbove = v.limit(path+".above", a.Above, gaugeDim(g.Kind))
-	a.below, a.hasBelow = v.limit(path+".below", a.Below, gaugeDim(g.Kind))
-	v.expect(!a.hasAbove || !a.hasBelow || a.below < a.above, path,
+	a.r.dim = gaugeDim(g.Kind)
+	v.alarmKind(path, a, g)
+}
+
+func (v *checker) alarmKind(path string, a *AlarmConfig, g *GaugeConfig) {
+	switch a.r.kind {
+	case "above/below":
+		v.limitAlarm(path, a)
+	case "rate":
+		v.rateAlarm(path, a)
+	case "rise_watch":
+		v.riseWatch(path, a, g)
+	case "stale":
+		v.expect(a.Stale > 0, path+".stale", "want a positive time such as 2 min")
+	case "fault":
+		v.expect(a.Fault > 0, path+".fault", "want a positive time such as 1 min")
+	case "disagree":
+		v.disagree(path, a, g)
+	case "pump_down":
+		v.pumpDown(path, a, g)
+	case "hold_test":
+		v.holdTest(path, a, g)
+	}
+	if a.Deadband.Set && a.r.kind != "above/below" && a.r.kind != "rate" {
+		v.problem(path+".deadband", "a deadband applies to limit and rate alarms only")
+	}
+}
+
+func (v *checker) limitAlarm(path string, a *AlarmConfig) {
+	a.r.above, a.r.hasAbove = v.limit(path+".above", a.Above, a.r.dim)
+	a.r.below, a.r.hasBelow = v.limit(path+".below", a.Below, a.r.dim)
+	v.expect(!a.r.hasAbove || !a.r.hasBelow || a.r.below < a.r.above, path,
 		"below must be less than above, or the alarm is always active")
+	v.deadband(path, a, a.r.dim)
+}
+
+// deadband reads "0.5 Pa" (absolute, in the gauge's dimension, or a
+// temperature difference) or "5%" (of the limit).
+func (v *checker) deadband(path string, a *AlarmConfig, dim calib.Dimension) {
+	t := a.Deadband
+	if !t.Set {
+		return
+	}
+	if s, ok := strings.CutSuffix(strings.TrimSpace(t.Value), "%"); ok {
+		f, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+		if err != nil || !(f >= 0 && f < 100) {
+			v.problem(path+".deadband", "want a percentage from 0 to 100 such as 5%%, got %q", t.Value)
+			return
+		}
+		a.r.deadband, a.r.deadbandRel = f/100, true
+		return
+	}
+	db, ok := v.difference(path+".deadband", t, dim)
+	v.expect(!ok || db >= 0, path+".deadband", "must not be negative")
+	a.r.deadband = db
+}
+
+// difference parses a quantity that is a difference (a deadband, a rate's
+// numerator): for temperatures, 2 F is 2 F of difference, not −16.7 °C.
+func (v *checker) difference(path string, t Text, dim calib.Dimension) (float64, bool) {
+	x, ok := v.limit(path, t, dim)
+	if !ok || dim != calib.Temperature {
+		return x, ok
+	}
+	_, unit, _ := strings.Cut(strings.TrimSpace(t.Value), " ")
+	zero, err := calib.Parse("0 "+unit, dim)
+	if err != nil {
+		return x, ok
+	}
+	return x - zero, true
 }
 
 func (v *checker) limit(path string, t Text, dim calib.Dimension) (float64, bool) {
@@ -63,4 +191,25 @@ func (v *checker) limit(path string, t Text, dim calib.Dimension) (float64, bool
 		return 0, false
 	}
 	return x, true
+}
+
+func (v *checker) health(path string, a *AlarmConfig) {
+	v.expect(a.Gauge == "", path+".gauge", "a health alarm watches the daemon itself; remove gauge")
+	switch a.Health {
+	case "disk_free":
+		if !a.Below.Set {
+			a.r.below = 0.05
+			return
+		}
+		s, ok := strings.CutSuffix(strings.TrimSpace(a.Below.Value), "%")
+		f, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+		if !ok || err != nil || !(f > 0 && f < 100) {
+			v.problem(path+".below", "want the free share of the data disk as a percentage such as 5%%, got %q", a.Below.Value)
+		}
+		a.r.below = f / 100
+	case "store_writes":
+		v.expect(!a.Below.Set && !a.Above.Set, path, "store_writes takes no limit")
+	default:
+		v.problem(path+".health", "want disk_free or store_writes, got %q", a.Health)
+	}
 }

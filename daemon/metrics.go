@@ -63,12 +63,6 @@ var (
 	descLast = prometheus.NewDesc("holdfast_last_sample_timestamp_seconds",
 		"Unix time of the gauge's last sample, on the daemon's clock.",
 		[]string{"gauge"}, nil)
-	descAlarmActive = prometheus.NewDesc("holdfast_alarm_active",
-		"1 while the alarm's condition has held past its on-delay, else 0.",
-		[]string{"alarm", "gauge", "severity"}, nil)
-	descAlarmRaised = prometheus.NewDesc("holdfast_alarms_raised_total",
-		"Times the alarm was raised since the daemon started.",
-		[]string{"alarm", "gauge", "severity"}, nil)
 	descLinkUp = prometheus.NewDesc("holdfast_link_up",
 		"1 while the link's device is open and its last exchange did not fail it, else 0.",
 		[]string{"link"}, nil)
@@ -89,7 +83,7 @@ var (
 type liveCollector struct{ d *Daemon }
 
 func (c *liveCollector) Describe(ch chan<- *prometheus.Desc) {
-	for _, d := range []*prometheus.Desc{descPressure, descTemperature, descUp, descQuality, descLast, descAlarmActive, descAlarmRaised, descLinkUp, descLinkReconnects, descLinkTimeouts, descStoreErr} {
+	for _, d := range append([]*prometheus.Desc{descPressure, descTemperature, descUp, descQuality, descLast, descLinkUp, descLinkReconnects, descLinkTimeouts, descStoreErr}, alarmDescs...) {
 		ch <- d
 	}
 }
@@ -115,10 +109,7 @@ func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
 		}
 		ch <- prometheus.MustNewConstMetric(desc, prometheus.GaugeValue, v.last.Value, v.name)
 	}
-	for _, a := range c.d.alarms.Status() {
-		ch <- prometheus.MustNewConstMetric(descAlarmActive, prometheus.GaugeValue, b2f(a.Active), a.Alarm, a.Gauge, string(a.Severity))
-		ch <- prometheus.MustNewConstMetric(descAlarmRaised, prometheus.CounterValue, float64(a.Raised), a.Alarm, a.Gauge, string(a.Severity))
-	}
+	c.d.collectAlarms(ch)
 	for _, l := range c.d.links {
 		if l.stats == nil {
 			continue

@@ -1,0 +1,50 @@
+package alerts
+
+import (
+	"fmt"
+	"time"
+
+	"holdfast/calib"
+)
+
+// The daemon's own health reaches the engine as samples of these pseudo
+// gauges: the free share of the data disk (0 to 1) and whether store
+// writes fail (1) or work (0). Their names cannot clash with a configured
+// gauge, whose names have no colon.
+const (
+	HealthDiskFree    = "holdfast:disk-free"
+	HealthStoreWrites = "holdfast:store-writes"
+)
+
+// Health is the daemon-health rule on one of the pseudo gauges: the data
+// disk's free share below Below, or store writes failing.
+type Health struct {
+	Check string  // HealthDiskFree or HealthStoreWrites
+	Below float64 // disk: the free share that is too little
+}
+
+// Kind returns "health".
+func (r *Health) Kind() string { return "health" }
+
+// Gauges returns the pseudo gauge.
+func (r *Health) Gauges() []string { return []string{r.Check} }
+
+// Tick decides nothing: the daemon sends health samples.
+func (r *Health) Tick(time.Time, bool) Condition { return unknown() }
+
+// Observe judges one health sample.
+func (r *Health) Observe(_ string, s calib.Sample, _ bool) Condition {
+	c := Condition{Known: true, Value: s.Value, Limit: r.Below, Unit: "%"}
+	if r.Check == HealthStoreWrites {
+		c.Active, c.Limit, c.Unit = s.Value > 0, 0, ""
+		c.Detail = "sample store writes work again"
+		if c.Active {
+			c.Detail = "sample store writes are failing; samples are held in memory and retried"
+		}
+		return c
+	}
+	c.Active = s.Value < r.Below
+	c.ValueText, c.LimitText = fmt.Sprintf("%.1f %%", 100*s.Value), fmt.Sprintf("%.1f %%", 100*r.Below)
+	c.Detail = fmt.Sprintf("data disk has %s free (limit %s)", c.ValueText, c.LimitText)
+	return c
+}

@@ -1,0 +1,111 @@
+package alerts
+
+import (
+	"fmt"
+	"time"
+
+	"holdfast/calib"
+)
+
+// RiseWatch is the rise-watch rule: the rate-of-rise analysis (AnalyzeRise)
+// run on a sliding window of the gauge's samples while the chamber is
+// isolated. The alarm holds while the window shows a leak-dominated or
+// mixed rise whose leak rate Q = V·a exceeds MaxLeak. An outgassing-
+// dominated rise clears it; an inconclusive one decides nothing.
+//
+// With Always the window is analysed at all times: a pumped chamber's
+// pressure falls or stays flat and so shows no leak, but a pressure that
+// climbs while pumped (a bake warming the walls) can look like one; set
+// Always only where the isolation is not known otherwise. Without Always,
+// SetIsolated tells the rule when the chamber is isolated (from the API,
+// or a digital input read as a gauge).
+type RiseWatch struct {
+	Gauge   string
+	Window  time.Duration
+	Every   time.Duration // analyse at most this often (0: Window/20)
+	MaxLeak float64       // Pa·m³/s
+	Volume  float64       // m³
+	Always  bool
+	Unit    calib.Unit // throughput unit for messages, e.g. mbar·L/s
+	Options RiseOptions
+
+	isolated bool
+	buf      Rise
+	t0, last time.Time
+	Last     RiseResult // the newest analysis, for the API
+}
+
+// Kind returns "rise-watch".
+func (r *RiseWatch) Kind() string { return "rise-watch" }
+
+// Gauges returns the gauge whose rise is watched.
+func (r *RiseWatch) Gauges() []string { return []string{r.Gauge} }
+
+// Tick decides nothing: the analysis runs on samples.
+func (r *RiseWatch) Tick(time.Time, bool) Condition { return unknown() }
+
+// SetIsolated says whether the chamber is isolated from its pumps; the
+// window starts afresh at each change.
+func (r *RiseWatch) SetIsolated(on bool) {
+	if on != r.isolated {
+		r.buf.Reset()
+		r.last = time.Time{}
+	}
+	r.isolated = on
+}
+
+// Observe adds a valid sample to the window and analyses it now and then.
+func (r *RiseWatch) Observe(_ string, s calib.Sample, active bool) Condition {
+	if !r.Always && !r.isolated {
+		c := unknown()
+		c.Known, c.Detail = true, "chamber not isolated; rise watch idle"
+		return c
+	}
+	if s.Quality != calib.QualityOK {
+		return unknown()
+	}
+	if r.t0.IsZero() {
+		r.t0 = s.At
+	}
+	r.buf.Window = r.Window.Seconds()
+	r.buf.Add(s.At.Sub(r.t0).Seconds(), s.Value)
+	every := r.Every
+	if every <= 0 {
+		every = r.Window / 20
+	}
+	if !r.last.IsZero() && s.At.Sub(r.last) < every {
+		return unknown()
+	}
+	r.last = s.At
+	if r.buf.Len() < 2 || r.buf.span() < 0.8*r.Window.Seconds() {
+		return unknown() // wait for a full window
+	}
+	res, err := r.buf.Analyze(r.Volume, r.Options)
+	if err != nil {
+		return unknown()
+	}
+	r.Last = res
+	return r.judge(res)
+}
+
+func (r *RiseWatch) judge(res RiseResult) Condition {
+	c := Condition{Known: true, Value: res.LeakRate, Limit: r.MaxLeak, Unit: r.Unit.Symbol(),
+		ValueText: calib.Format(res.LeakRate, r.Unit), LimitText: calib.Format(r.MaxLeak, r.Unit)}
+	switch res.Classification {
+	case Inconclusive:
+		return unknown()
+	case LeakDominated, Mixed:
+		c.Active = res.LeakRate > r.MaxLeak
+	}
+	c.Detail = fmt.Sprintf("rise over the last %s is %s: leak rate %s ± %s (limit %s)", r.Window, res.Classification,
+		c.ValueText, calib.Format(res.LeakRateUncertainty, r.Unit), c.LimitText)
+	return c
+}
+
+// span returns the time from the oldest to the newest sample in the window.
+func (r *Rise) span() float64 {
+	if r.Len() == 0 {
+		return 0
+	}
+	return r.newest - r.t[r.head]
+}

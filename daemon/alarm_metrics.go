@@ -1,0 +1,46 @@
+package daemon
+
+import (
+	"github.com/prometheus/client_golang/prometheus"
+
+	"holdfast/alerts"
+)
+
+var (
+	descAlarmState = prometheus.NewDesc("holdfast_alarm_state",
+		"1 for the alarm's current IEC 62682 state (normal, unacknowledged, acknowledged, returned-unacknowledged, shelved, suppressed, out-of-service), 0 for the others.",
+		[]string{"alarm", "gauge", "severity", "state"}, nil)
+	descAlarmRaised = prometheus.NewDesc("holdfast_alarms_raised_total",
+		"Times the alarm was raised, over its stored history (kept across restarts).",
+		[]string{"alarm", "gauge", "severity"}, nil)
+	descAlarmChattering = prometheus.NewDesc("holdfast_alarm_chattering",
+		"1 while the alarm is chattering (raised repeatedly within its chatter window), else 0.",
+		[]string{"alarm", "gauge", "severity"}, nil)
+	descLeakRate = prometheus.NewDesc("holdfast_leak_rate_pascal_cubic_meters_per_second",
+		"Leak rate Q = V·dp/dt found by the last conclusive hold test on the gauge (1 Pa·m³/s = 10 mbar·L/s).",
+		[]string{"gauge"}, nil)
+)
+
+var alarmDescs = []*prometheus.Desc{descAlarmState, descAlarmRaised, descAlarmChattering, descLeakRate}
+
+// collectAlarms sends the alarm and hold-test metrics.
+func (d *Daemon) collectAlarms(ch chan<- prometheus.Metric) {
+	for _, a := range d.alarms.Status() {
+		sev := string(a.Severity)
+		for _, s := range alerts.States() {
+			ch <- prometheus.MustNewConstMetric(descAlarmState, prometheus.GaugeValue, b2f(a.State == s), a.Alarm, a.Gauge, sev, string(s))
+		}
+		ch <- prometheus.MustNewConstMetric(descAlarmRaised, prometheus.CounterValue, float64(a.Raised), a.Alarm, a.Gauge, sev)
+		ch <- prometheus.MustNewConstMetric(descAlarmChattering, prometheus.GaugeValue, b2f(a.Chattering), a.Alarm, a.Gauge, sev)
+	}
+	hs, _ := d.recentHoldTests(50)
+	last := map[string]float64{}
+	for _, h := range hs {
+		if h.State == holdDone && h.Result != nil && h.Result.Classification != alerts.Inconclusive {
+			last[h.Gauge] = h.Result.LeakRate
+		}
+	}
+	for g, q := range last {
+		ch <- prometheus.MustNewConstMetric(descLeakRate, prometheus.GaugeValue, q, g)
+	}
+}
