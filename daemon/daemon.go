@@ -49,18 +49,19 @@ type Options struct {
 
 // A Daemon polls every gauge of one config and serves what it reads.
 type Daemon struct {
-	cfg    *Config
-	log    *slog.Logger
-	clock  Clock
-	emit   func(Event)
-	store  *store.DB
-	links  []*link
-	gauges []*gauge // sorted by name
-	alarms *alerts.Engine
-	met    *metrics
-	ln     net.Listener
-	token  string                     // bearer token for changes; empty refuses them
-	trace  func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
+	cfg      *Config
+	log      *slog.Logger
+	clock    Clock
+	emit     func(Event)
+	store    *store.DB
+	links    []*link
+	gauges   []*gauge // sorted by name
+	alarms   *alerts.Engine
+	met      *metrics
+	ln       net.Listener
+	token    string // bearer token for changes; empty refuses them
+	progress progress
+	trace    func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
 
 	flushMu  sync.Mutex
 	flushErr error
@@ -127,6 +128,7 @@ func (d *Daemon) Run(parent context.Context) error {
 	wg.Go(func() { d.alarmLoop(ctx) })
 	wg.Go(func() { d.notifyLoop(ctx) })
 	wg.Go(func() { d.retentionLoop(ctx) })
+	wg.Go(func() { d.systemdLoop(ctx) })
 	d.log.Info("daemon started", "chamber", d.cfg.Chamber.Name, "gauges", len(d.gauges), "listen", d.Addr())
 	<-ctx.Done()
 	shut, done := context.WithTimeout(context.Background(), 3*time.Second)

@@ -1,0 +1,77 @@
+package daemon
+
+import (
+	"context"
+	"net"
+	"os"
+	"strconv"
+	"strings"
+	"sync/atomic"
+	"time"
+)
+
+// sdNotify sends one state message to systemd's notification socket, if
+// the daemon runs under systemd (NOTIFY_SOCKET set); otherwise it does nothing.
+func sdNotify(state string) error {
+	path := os.Getenv("NOTIFY_SOCKET")
+	if path == "" {
+		return nil
+	}
+	if strings.HasPrefix(path, "@") {
+		path = "\x00" + path[1:] // abstract namespace
+	}
+	c, err := net.DialUnix("unixgram", nil, &net.UnixAddr{Name: path, Net: "unixgram"})
+	if err != nil {
+		return err
+	}
+	defer c.Close()
+	_, err = c.Write([]byte(state))
+	return err
+}
+
+// watchdogInterval is how often systemd wants a keep-alive, or 0 when
+// WatchdogSec= is not set for this process.
+func watchdogInterval() time.Duration {
+	us, err := strconv.ParseInt(os.Getenv("WATCHDOG_USEC"), 10, 64)
+	if err != nil || us <= 0 {
+		return 0
+	}
+	if pid := os.Getenv("WATCHDOG_PID"); pid != "" && pid != strconv.Itoa(os.Getpid()) {
+		return 0
+	}
+	return time.Duration(us) * time.Microsecond
+}
+
+// progress counts completed polls, so the watchdog is fed only while the
+// pollers make progress, not by a bare ticker.
+type progress struct{ polls atomic.Uint64 }
+
+// systemdLoop tells systemd the daemon is ready, feeds its watchdog while
+// polls complete, and says it is stopping when ctx is done.
+func (d *Daemon) systemdLoop(ctx context.Context) {
+	if err := sdNotify("READY=1\nSTATUS=polling " + strconv.Itoa(len(d.gauges)) + " gauges"); err != nil {
+		d.log.Warn("cannot notify systemd", "err", err)
+	}
+	defer sdNotify("STOPPING=1")
+	iv := watchdogInterval()
+	if iv == 0 {
+		<-ctx.Done()
+		return
+	}
+	t := time.NewTicker(iv / 2)
+	defer t.Stop()
+	last := d.progress.polls.Load()
+	for {
+		select {
+		case <-ctx.Done():
+			return
+		case <-t.C:
+			if now := d.progress.polls.Load(); now != last || len(d.links) == 0 {
+				last = now
+				sdNotify("WATCHDOG=1")
+			} else {
+				d.log.Error("no poll completed for half the watchdog interval; systemd will restart the daemon", "watchdog_seconds", iv.Seconds())
+			}
+		}
+	}
+}
