@@ -1,0 +1,114 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"net/http"
+	"net/url"
+	"os"
+	"strings"
+
+	"holdfast/daemon"
+)
+
+// cmdHoldTest starts, lists and shows hold tests (pressure-rise tests) on
+// the running daemon.
+func cmdHoldTest(ctx context.Context, args []string, stdout, stderr io.Writer) error {
+	sub := "list"
+	if len(args) > 0 && args[0] != "" && args[0][0] != '-' {
+		sub, args = args[0], args[1:]
+	}
+	fs := newFlags("holdtest", "[start --gauge G [--settle 2m] [--duration 10m] | list | show ID [--svg FILE]] [flags]", stderr)
+	api := addAPIFlags(fs)
+	gauge := fs.String("gauge", "", "start: the pressure `gauge` that records the rise")
+	settle := fs.String("settle", "", "start: wait this long after isolating before recording (default: the gauge's hold_test alarm, else 2m)")
+	dur := fs.String("duration", "", "start: record this long (default: the gauge's hold_test alarm, else 10m)")
+	svg := fs.String("svg", "", "show: also write the plot of the rise to this `file`")
+	asJSON := fs.Bool("json", false, "print JSON")
+	id, err := parseWithName(fs, args, sub == "show")
+	if err != nil {
+		return err
+	}
+	switch sub {
+	case "start":
+		if *gauge == "" {
+			fs.Usage()
+			return errUsage("holdtest start needs --gauge")
+		}
+		var h daemon.HoldTestJSON
+		body := daemon.HoldTestStartJSON{Gauge: *gauge, Settle: *settle, Duration: *dur}
+		if err := api.do(ctx, "POST", "/api/v1/holdtests", body, &h); err != nil {
+			return err
+		}
+		fmt.Fprintf(stdout, "hold test %s on %s: settling until %s, recording until %s (valve: %s)\n",
+			h.ID, h.Gauge, h.RecordFrom.Format("15:04:05"), h.RecordTo.Format("15:04:05"), h.Valve)
+		if h.Valve == "manual" {
+			fmt.Fprintln(stdout, "isolate the chamber now; holdfast drives no real valve and is not an interlock")
+		}
+		return nil
+	case "list":
+		var hs []daemon.HoldTestJSON
+		if err := api.do(ctx, "GET", "/api/v1/holdtests", nil, &hs); err != nil {
+			return err
+		}
+		if *asJSON {
+			return writeIndented(stdout, hs)
+		}
+		for _, h := range hs {
+			fmt.Fprintf(stdout, "%s  %s  %-10s %-9s %-12s %s\n", h.ID, h.Requested.Format("2006-01-02 15:04"), h.Gauge, h.State, h.Verdict, h.Summary)
+		}
+		return nil
+	case "show":
+		var h daemon.HoldTestJSON
+		if err := api.do(ctx, "GET", "/api/v1/holdtests/"+url.PathEscape(id), nil, &h); err != nil {
+			return err
+		}
+		if *svg != "" {
+			if err := saveSVG(ctx, api, id, *svg); err != nil {
+				return err
+			}
+		}
+		if *asJSON {
+			return writeIndented(stdout, h)
+		}
+		fmt.Fprintf(stdout, "hold test %s on %s (%s), %s\n  recorded %s to %s\n  %s\n", h.ID, h.Gauge, h.Chamber, h.State,
+			h.RecordFrom.Format("2006-01-02 15:04:05"), h.RecordTo.Format("15:04:05"), h.Summary)
+		if h.Error != "" {
+			fmt.Fprintf(stdout, "  error: %s\n", h.Error)
+		}
+		return nil
+	}
+	fs.Usage()
+	return errUsage("unknown holdtest command %q", sub)
+}
+
+func saveSVG(ctx context.Context, api *apiClient, id, file string) error {
+	req, err := http.NewRequestWithContext(ctx, "GET", strings.TrimRight(api.base, "/")+"/api/v1/holdtests/"+url.PathEscape(id)+"/rise.svg", nil)
+	if err != nil {
+		return fmt.Errorf("--daemon %q: %w", api.base, err)
+	}
+	resp, err := api.http.Do(req)
+	if err != nil {
+		return err
+	}
+	defer resp.Body.Close()
+	b, err := io.ReadAll(io.LimitReader(resp.Body, 16<<20))
+	if err != nil {
+		return err
+	}
+	if resp.StatusCode != http.StatusOK {
+		return fmt.Errorf("daemon: hold test %s has no plot (%s)", id, resp.Status)
+	}
+	if err := os.WriteFile(file, b, 0o644); err != nil {
+		return fmt.Errorf("--svg: %w", err)
+	}
+	return nil
+}
+
+func writeIndented(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}
