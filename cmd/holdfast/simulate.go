@@ -60,10 +60,15 @@ func cmdSimulate(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(stdout, "holdfast simulate: link %s of %s, %g simulated seconds per wall second\n", link, cfg.File, a.speed)
+	fmt.Fprintf(stdout, "holdfast simulate: link %s of %s at speed %g (simulated seconds per wall second)\n", link, cfg.File, a.speed)
 	printServed(stdout, srv, a, p.Name())
+	fmt.Fprintln(stdout, "Ctrl-C stops")
 	err = serveUntilDone(ctx, srv, p, a)
-	return errors.Join(err, unlink())
+	if err := errors.Join(err, unlink()); err != nil {
+		return err
+	}
+	fmt.Fprintf(stdout, "stopped; %s removed\n", a.pty)
+	return nil
 }
 
 func parseSimulate(args []string, stderr io.Writer) (simulateArgs, error) {
@@ -169,7 +174,7 @@ func printServed(w io.Writer, srv *sim.Server, a simulateArgs, slave string) {
 	if a.protocol == "modbus" {
 		proto = fmt.Sprintf("Modbus RTU, unit %d", a.unit)
 	}
-	fmt.Fprintf(w, "serving %s on %s (-> %s); Ctrl-C stops\n", proto, a.pty, slave)
+	fmt.Fprintf(w, "serving %s on %s (-> %s)\n", proto, a.pty, slave)
 	fmt.Fprintln(w, "a pseudo-terminal ignores baud, parity and stop bits: any settings work")
 	tw := tabwriter.NewWriter(w, 2, 8, 2, ' ', 0)
 	if a.protocol == "modbus" {

@@ -49,14 +49,15 @@ func (w *bannerWriter) String() string {
 
 func example(name string) string { return filepath.Join("..", "..", "deploy", "examples", name) }
 
-// startSimulate runs holdfast simulate with args until the test ends and
-// returns its output once the banner is printed.
-func startSimulate(t *testing.T, args ...string) *bannerWriter {
+// startSimulate runs holdfast simulate with args, serving at dev, until
+// the test ends, and returns its output once the banner is printed. At the
+// end it checks that the command stopped cleanly and removed dev.
+func startSimulate(t *testing.T, dev string, args ...string) *bannerWriter {
 	t.Helper()
 	ctx, cancel := context.WithCancel(context.Background())
 	out, errOut := newBannerWriter("Ctrl-C stops"), &bytes.Buffer{}
 	done := make(chan error, 1)
-	go func() { done <- run(ctx, append([]string{"simulate"}, args...), out, errOut) }()
+	go func() { done <- run(ctx, append([]string{"simulate", "--pty", dev}, args...), out, errOut) }()
 	stop := func() error {
 		cancel()
 		select {
@@ -77,6 +78,9 @@ func startSimulate(t *testing.T, args ...string) *bannerWriter {
 	t.Cleanup(func() {
 		if err := stop(); err != nil {
 			t.Errorf("simulate: %v\nstderr:\n%s", err, errOut)
+		}
+		if _, err := os.Lstat(dev); !os.IsNotExist(err) || !strings.Contains(out.String(), "stopped; "+dev+" removed") {
+			t.Errorf("after stopping, %s: %v; output:\n%s", dev, err, out)
 		}
 	})
 	return out
@@ -109,7 +113,7 @@ func probeExample(t *testing.T, file, dev, gauge string) daemon.ProbeResult {
 // pty-demo.yaml, reads every gauge, the ?ALL reply feeding three of them.
 func TestSimulateServesPtyDemo(t *testing.T) {
 	dev := filepath.Join(t.TempDir(), "holdfast-sim")
-	out := startSimulate(t, "--config", example("pty-sim.yaml"), "--pty", dev)
+	out := startSimulate(t, dev, "--config", example("pty-sim.yaml"))
 	for _, want := range []string{"1  lock-cdg", "4  lock-wall", `"?P1\r" -> "2,`, `"?ALL\r" -> "1=`} {
 		if !strings.Contains(strings.Join(strings.Fields(out.String()), "  "), strings.Join(strings.Fields(want), "  ")) {
 			t.Errorf("banner lacks %q:\n%s", want, out)
@@ -135,7 +139,7 @@ func TestSimulateServesPtyDemo(t *testing.T) {
 
 func TestSimulateServesModbus(t *testing.T) {
 	dev := filepath.Join(t.TempDir(), "holdfast-sim")
-	out := startSimulate(t, "--config", example("pty-sim.yaml"), "--pty", dev, "--protocol", "modbus", "--unit", "1")
+	out := startSimulate(t, dev, "--config", example("pty-sim.yaml"), "--protocol", "modbus", "--unit", "1")
 	if !strings.Contains(out.String(), "input 6-7, C") {
 		t.Errorf("banner lacks the register map:\n%s", out)
 	}
