@@ -185,6 +185,9 @@ func (st *alarmState) render(held time.Duration) string {
 	t := st.a.Message
 	if t == "" {
 		t = DefaultMessage
+		if held < time.Second {
+			t = "{gauge} {detail}"
+		}
 	}
 	c := st.last
 	return strings.NewReplacer("{alarm}", st.a.Name, "{gauge}", st.a.Gauge, "{value}", c.ValueText,
