@@ -7,12 +7,19 @@ import (
 	"slices"
 )
 
-// calibCommands is the complete list of "holdfast calib" subcommands. The
-// store-backed ones (point, list, show, activate, reprocess) slot in here.
+// calibCommands is the complete list of "holdfast calib" subcommands.
 var calibCommands = map[string]command{
-	"fit":  {"fit a model to a CSV of points; the calibration goes to stdout as JSON", cmdCalibFit},
-	"eval": {"turn raw values into pressures with a calibration file", cmdCalibEval},
-	"plot": {"draw a calibration's points, curve and residuals to SVG or PNG", cmdCalibPlot},
+	"fit":      {"fit a CSV of points (--points), or a gauge's stored points on the daemon (--gauge)", cmdCalibFitAny},
+	"eval":     {"turn raw values into pressures with a calibration file", cmdCalibEval},
+	"plot":     {"draw a calibration file (--calibration) or a stored version (ID) to SVG or PNG", cmdCalibPlotAny},
+	"point":    {"take a calibration point from a live gauge against a reference", cmdCalibPoint},
+	"points":   {"list the stored calibration points", cmdCalibPoints},
+	"exclude":  {"leave a stored point out of later fits (it stays stored)", cmdCalibExclude},
+	"list":     {"list the stored calibration versions and which is active", cmdCalibList},
+	"show":     {"show one stored version: history, parameters, fit report", cmdCalibShow},
+	"activate": {"make a stored version its gauge's active calibration, live", cmdCalibActivate},
+	"retire":   {"put a gauge back on its instrument's own curve", cmdCalibRetire},
+	"audit":    {"list activations, retirements and reprocessing runs", cmdCalibAudit},
 }
 
 const calibWorkflow = `usage: holdfast calib <subcommand> [flags]
@@ -45,10 +52,40 @@ Offline, with files:
   4. holdfast calib plot --calibration foreline.json -o foreline.svg
      Draws the points, the curve on a log axis and the residuals.
 
-With the daemon running, the stored workflow (taking points from a live
-gauge, the version history, activating a calibration, recomputing stored
-samples) adds its own subcommands here.
+With the daemon running (holdfast run), against a live gauge:
+  1. Hold the chamber at a steady pressure (isolate it, or bleed gas in
+     and let it settle), read the reference, and take a point:
+         holdfast calib point --gauge foreline --reference 540Pa
+         holdfast calib point --gauge foreline --column-height 6cm
+         holdfast calib point --gauge foreline --reference-gauge chamber-cdg
+     The daemon averages the gauge's raw signal over the last minute
+     (--window) from the samples it has stored. If the reading still
+     drifts by more than --max-drift (0.5 %) over that window, the point
+     is refused with how much it drifts and about how long to wait. For
+     --column-height the liquid comes from the gauge's
+     calibration.reference_fluid in the config (or --density).
+     Repeat at each pressure; 'holdfast calib points' lists them, and
+     'holdfast calib exclude ID --reason ...' leaves a bad one out.
+  2. holdfast calib fit --gauge foreline --model heat-loss
+     Fits the stored points and stores a new version, not yet active,
+     with its report (as above).
+  3. holdfast calib list --gauge foreline; holdfast calib show 4;
+     holdfast calib plot 4 -o foreline-4.svg
+  4. holdfast calib activate 4
+     Switches the gauge to version 4 from its next reading, no restart;
+     every stored sample records the id of the calibration that produced
+     its value. 'holdfast calib retire --gauge foreline' goes back to the
+     instrument's own curve. Every version stays stored.
+  5. holdfast reprocess --gauge foreline --calibration 4 --from "2026-03-02 08:00"
+     Recomputes last week's values from their stored raw signal with
+     version 4; the raw values are kept, and 'holdfast calib audit'
+     shows what was changed and how to undo it.
+  Changes need the daemon's token: --token-file (the config's
+  http.token_file); --daemon says where the daemon listens.
 
+Taking points means venting, bleeding gas and handling liquid columns:
+mercury is toxic, glass under vacuum can implode, and process gases may be
+flammable or toxic. Work as your local codes and licensed practice require.
 holdfast is a monitoring aid, never a safety interlock: a calibration
 changes what the program reports, not how your chamber is protected.
 

@@ -48,19 +48,20 @@ type command struct {
 
 // commands is the complete list of subcommands.
 var commands = map[string]command{
-	"demo":     {"run the daemon on the built-in simulated chamber", cmdDemo},
-	"run":      {"run the daemon with a config file", cmdRun},
-	"check":    {"check a config file and report every problem", cmdCheck},
-	"convert":  {"convert a quantity between units", cmdConvert},
-	"version":  {"print the version", cmdVersion},
-	"leak":     {"analyse a recorded pressure rise: leak rate, outgassing", cmdLeak},
-	"alarms":   {"list the running daemon's alarms; ack, shelve, unshelve them", cmdAlarms},
-	"holdtest": {"start, list and show hold tests (pressure-rise tests) on the running daemon", cmdHoldTest},
-	"column":   {"pressure of a liquid column (p = rho*g*h)", cmdColumn},
-	"calib":    {"fit, evaluate and manage gauge calibrations", cmdCalib},
-	"ports":    {"list serial ports", cmdPorts},
-	"probe":    {"run one gauge's exchange and show the bytes", cmdProbe},
-	"simulate": {"serve the simulated chamber's instruments on a pseudo-terminal", cmdSimulate},
+	"demo":      {"run the daemon on the built-in simulated chamber", cmdDemo},
+	"run":       {"run the daemon with a config file", cmdRun},
+	"check":     {"check a config file and report every problem", cmdCheck},
+	"convert":   {"convert a quantity between units", cmdConvert},
+	"version":   {"print the version", cmdVersion},
+	"leak":      {"analyse a recorded pressure rise: leak rate, outgassing", cmdLeak},
+	"alarms":    {"list the running daemon's alarms; ack, shelve, unshelve them", cmdAlarms},
+	"holdtest":  {"start, list and show hold tests (pressure-rise tests) on the running daemon", cmdHoldTest},
+	"column":    {"pressure of a liquid column (p = rho*g*h)", cmdColumn},
+	"calib":     {"fit, evaluate and manage gauge calibrations", cmdCalib},
+	"reprocess": {"recompute stored values from raw with another calibration", cmdReprocess},
+	"ports":     {"list serial ports", cmdPorts},
+	"probe":     {"run one gauge's exchange and show the bytes", cmdProbe},
+	"simulate":  {"serve the simulated chamber's instruments on a pseudo-terminal", cmdSimulate},
 }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
