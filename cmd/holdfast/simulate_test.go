@@ -5,7 +5,10 @@ package main
 import (
 	"bytes"
 	"context"
+	"io"
+	"log/slog"
 	"math"
+	"net/http"
 	"os"
 	"path/filepath"
 	"strings"
@@ -220,4 +223,68 @@ func TestSimulateUsageErrors(t *testing.T) {
 	if _, err := os.Lstat(dev); !os.IsNotExist(err) {
 		t.Errorf("a failed simulate left %s behind", dev)
 	}
+}
+
+// The README's two terminals: the daemon runs pty-demo.yaml against
+// simulate and every gauge, the three fed by one ?ALL reply included,
+// reaches /metrics once the lock has pumped below the gauges' tops (at
+// speed 60 the roughing pump's 14 s time constant takes about 2 s of wall
+// time).
+func TestSimulateFeedsTheDaemon(t *testing.T) {
+	dir := t.TempDir()
+	dev := filepath.Join(dir, "holdfast-sim")
+	startSimulate(t, dev, "--config", example("pty-sim.yaml"), "--speed", "60")
+	cfg, err := daemon.LoadConfig(example("pty-demo.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg.Links["sim-port"].Serial.Device = dev
+	cfg.Store.Dir, cfg.HTTP.Listen = dir, "127.0.0.1:0"
+	d, err := daemon.New(cfg, daemon.Options{Log: slog.New(slog.NewTextHandler(t.Output(), &slog.HandlerOptions{Level: slog.LevelWarn}))})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan error, 1)
+	go func() { done <- d.Run(ctx) }()
+	defer func() {
+		cancel()
+		if err := <-done; err != nil {
+			t.Errorf("Run: %v", err)
+		}
+	}()
+	want := []string{`holdfast_pressure_pascals{gauge="lock-cdg"}`, `holdfast_pressure_pascals{gauge="lock-pirani"}`,
+		`holdfast_temperature_celsius{gauge="lock-wall"}`, `holdfast_gauge_up{gauge="lock-ion"} 1`}
+	tick := time.NewTicker(50 * time.Millisecond)
+	defer tick.Stop()
+	var page string
+	for end := time.Now().Add(15 * time.Second); time.Now().Before(end); <-tick.C {
+		if page = metricsPage(t, d.Addr()); containsAll(page, want) {
+			return
+		}
+	}
+	t.Errorf("after 15 s /metrics lacks some of %q:\n%s", want, page)
+}
+
+func metricsPage(t *testing.T, addr string) string {
+	t.Helper()
+	resp, err := http.Get("http://" + addr + "/metrics")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer resp.Body.Close()
+	b, err := io.ReadAll(resp.Body)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return string(b)
+}
+
+func containsAll(s string, subs []string) bool {
+	for _, sub := range subs {
+		if !strings.Contains(s, sub) {
+			return false
+		}
+	}
+	return true
 }
