@@ -35,7 +35,7 @@ func linkPort(path, slave string, stdout io.Writer) (func() error, error) {
 	tmp := filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".tmp"+strconv.Itoa(os.Getpid()))
 	os.Remove(tmp)
 	if err := os.Symlink(slave, tmp); err != nil {
-		return nil, fmt.Errorf("--pty %s: %w", path, err)
+		return nil, fmt.Errorf("--pty %s: cannot make the link in %s: %w", path, filepath.Dir(path), errors.Unwrap(err))
 	}
 	if err := os.Rename(tmp, path); err != nil {
 		os.Remove(tmp)
