@@ -64,7 +64,8 @@ var alarmKinds = []string{"above/below", "rate", "rise_watch", "stale", "fault",
 
 func (a *AlarmConfig) kinds() []string {
 	var k []string
-	for i, set := range []bool{a.Above.Set || a.Below.Set, a.Rate != nil, a.RiseWatch != nil, a.Stale != 0,
+	limit := (a.Above.Set || a.Below.Set) && a.Health == "" // a health alarm's below is its own
+	for i, set := range []bool{limit, a.Rate != nil, a.RiseWatch != nil, a.Stale != 0,
 		a.Fault != 0, a.Disagree != nil, a.PumpDown != nil, a.Health != "", a.HoldTest != nil} {
 		if set {
 			k = append(k, alarmKinds[i])
