@@ -14,6 +14,7 @@ type Config struct {
 	Links   map[string]*LinkConfig  `yaml:"links"`
 	Gauges  map[string]*GaugeConfig `yaml:"gauges"`
 	Alarms  []*AlarmConfig          `yaml:"alarms"`
+	Notify  []*NotifyConfig         `yaml:"notify"`
 
 	lines map[string]int // config path -> line, for problems found after loading
 }

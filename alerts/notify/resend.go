@@ -58,3 +58,14 @@ func (r *Resender) Due(now time.Time) []Transition {
 	slices.SortFunc(out, func(a, b Transition) int { return strings.Compare(a.Alarm, b.Alarm) })
 	return out
 }
+
+// Seed records t only when the alarm is not known yet: it adds alarms
+// found active after a restart without overriding newer transitions.
+func (r *Resender) Seed(t Transition) {
+	r.mu.Lock()
+	_, known := r.last[t.Alarm]
+	r.mu.Unlock()
+	if !known {
+		r.Observe(t)
+	}
+}

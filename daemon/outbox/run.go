@@ -147,6 +147,9 @@ func (o *Outbox) settle(n *notifier, batch []Entry, sendErr error, now time.Time
 	var err error
 	if sendErr == nil {
 		err = o.db.Update(func(tx *bolt.Tx) error { return delivered(tx, n.name, batch, now) })
+		if err == nil {
+			n.log.Debug("notification delivered", "entries", len(batch), "first_key", batch[0].Key)
+		}
 	} else {
 		wait := backoff(batch[0].Attempts+1, n.policy)
 		err = o.db.Update(func(tx *bolt.Tx) error { return failed(tx, n.name, batch, sendErr, now.Add(wait)) })

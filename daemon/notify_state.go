@@ -1,0 +1,187 @@
+package daemon
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"log/slog"
+	"net/http"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	bolt "go.etcd.io/bbolt"
+
+	"holdfast/alerts/notify"
+	"holdfast/daemon/outbox"
+)
+
+// notifierSet is the daemon's notifiers and their outbox.
+type notifierSet struct {
+	log   *slog.Logger
+	clock Clock
+	ob    *outbox.Outbox
+	sinks []*sink
+}
+
+// sink is one configured notifier.
+type sink struct {
+	cfg  *NotifyConfig
+	send notify.Notifier
+	am   *notify.Alertmanager // set for an alertmanager notifier
+	rs   *notify.Resender     // what it must be told again
+
+	resendOK, resendFailed atomic.Uint64
+	lastResend             atomic.Int64 // Unix ns of the last good re-post
+}
+
+// notifierSets holds each daemon's notifiers, built on first use. The set
+// belongs in a Daemon field built by New; until that line is added there,
+// it is found here by daemon.
+var notifierSets = struct {
+	sync.Mutex
+	m map[*Daemon]*notifierSet
+}{m: map[*Daemon]*notifierSet{}}
+
+// notifiers returns the daemon's notifiers, building them on first use;
+// nil when none are configured or they could not be built (said once).
+func (d *Daemon) notifiers() *notifierSet {
+	if len(d.cfg.Notify) == 0 {
+		return nil
+	}
+	notifierSets.Lock()
+	defer notifierSets.Unlock()
+	if n, ok := notifierSets.m[d]; ok {
+		return n
+	}
+	n, err := newNotifierSet(d.cfg, d.store.Bolt(), d.clock, d.log.With("part", "notify"))
+	if err != nil {
+		d.log.Error("notifiers not started; alarms will not be sent", "err", err)
+	}
+	notifierSets.m[d] = n
+	return n
+}
+
+func newNotifierSet(cfg *Config, db *bolt.DB, clock Clock, log *slog.Logger) (*notifierSet, error) {
+	ob, err := outbox.Open(db, clock, log)
+	if err != nil {
+		return nil, err
+	}
+	n := &notifierSet{log: log, clock: clock, ob: ob}
+	for _, nc := range cfg.Notify {
+		s := newSink(nc)
+		p := outbox.Policy{GroupWait: nc.GroupWait.D(), MinBackoff: nc.Retry.Min.D(), MaxBackoff: nc.Retry.Max.D()}
+		if nc.Exec != nil {
+			p.MaxBatch = 1 // one run per transition, so its variables describe one alarm
+		}
+		if err := ob.Add(nc.Name, p, s.deliver(log.With("notifier", nc.Name))); err != nil {
+			return nil, err
+		}
+		n.sinks = append(n.sinks, s)
+	}
+	return n, nil
+}
+
+func newSink(nc *NotifyConfig) *sink {
+	s := &sink{cfg: nc}
+	client := &http.Client{}
+	switch {
+	case nc.Webhook != nil:
+		s.send = &notify.Webhook{URL: nc.Webhook.URL, Secret: nc.Webhook.secret, Client: client}
+	case nc.Alertmanager != nil:
+		s.am = &notify.Alertmanager{URL: nc.Alertmanager.URL, Resend: nc.Alertmanager.ResendEvery.D(), Client: client}
+		s.send, s.rs = s.am, notify.NewResender()
+	case nc.Mail != nil:
+		m := nc.Mail
+		s.send = &notify.Mail{Server: m.Server, From: m.From, To: m.To, Username: m.Username,
+			Password: m.password, PlainLoopback: m.PlainLoopback}
+	case nc.Exec != nil:
+		s.send = &notify.Exec{Command: nc.Exec.Command, Args: nc.Exec.Args, Timeout: nc.Timeout.D()}
+	}
+	return s
+}
+
+// deliver is the outbox's send function for s: entries back to
+// transitions, one Send bounded by the notifier's timeout.
+func (s *sink) deliver(log *slog.Logger) outbox.SendFunc {
+	return func(ctx context.Context, batch []outbox.Entry) error {
+		trs := make([]notify.Transition, 0, len(batch))
+		for _, e := range batch {
+			var tr notify.Transition
+			if err := json.Unmarshal(e.Payload, &tr); err != nil {
+				log.Error("queued notification unreadable; skipped", "key", e.Key, "err", err)
+				continue
+			}
+			tr.DedupeKey, tr.Reminder = e.Key, e.Reminder
+			trs = append(trs, tr)
+		}
+		if len(trs) == 0 {
+			return nil
+		}
+		ctx, cancel := context.WithTimeout(ctx, s.cfg.Timeout.D()+s.extraTime())
+		defer cancel()
+		return s.send.Send(ctx, trs)
+	}
+}
+
+// extraTime lets an exec notifier's own timeout fire (and be reported as
+// such) before the context's does.
+func (s *sink) extraTime() time.Duration {
+	if s.cfg.Exec != nil {
+		return 5 * time.Second
+	}
+	return 0
+}
+
+// enqueue puts one transition in the outbox for every notifier that wants
+// it, and starts or stops its reminders, in one transaction.
+func (n *notifierSet) enqueue(tr notify.Transition) error {
+	payload, err := json.Marshal(tr)
+	if err != nil {
+		return fmt.Errorf("encode: %w", err)
+	}
+	err = n.ob.Update(func(t *outbox.Tx) error {
+		for _, s := range n.sinks {
+			if !notify.SeverityAtLeast(tr.Severity, s.cfg.MinSeverity) {
+				continue
+			}
+			name := s.cfg.Name
+			if _, err := t.Enqueue(name, tr.DedupeKey, payload); err != nil {
+				return err
+			}
+			if s.cfg.RemindEvery == 0 {
+				continue
+			}
+			if tr.State == notify.StateUnacknowledged {
+				err = t.Remind(name, tr.Alarm, tr.DedupeKey, payload, s.cfg.RemindEvery.D())
+			} else {
+				err = t.StopReminder(name, tr.Alarm)
+			}
+			if err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	for _, s := range n.sinks {
+		if s.rs != nil && notify.SeverityAtLeast(tr.Severity, s.cfg.MinSeverity) {
+			s.rs.Observe(tr)
+		}
+	}
+	return nil
+}
+
+// run sends until ctx is done and returns after every loop has stopped.
+func (n *notifierSet) run(ctx context.Context, d *Daemon) {
+	var wg sync.WaitGroup
+	wg.Go(func() { n.ob.Run(ctx) })
+	for _, s := range n.sinks {
+		if s.am != nil {
+			wg.Go(func() { n.resendLoop(ctx, d, s) })
+		}
+	}
+	wg.Wait()
+}
