@@ -123,3 +123,30 @@ notify:
 		}
 	}
 }
+
+// The shipped example parses with no problem once its secret files exist.
+func TestNotifyExample(t *testing.T) {
+	b, err := os.ReadFile("../deploy/examples/notify.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	writeSecret(t, dir, "hook.key", "example hook key")
+	writeSecret(t, dir, "mail.password", "example password")
+	text := strings.ReplaceAll(string(b), "/etc/holdfast/", dir+"/")
+	text = strings.ReplaceAll(text, "./holdfast-data", dir)
+	cfg, err := ParseConfig("notify.yaml", []byte(text))
+	if err != nil {
+		t.Fatal(err)
+	}
+	kinds := ""
+	for _, n := range cfg.Notify {
+		kinds += n.kind + " "
+	}
+	if kinds != "webhook alertmanager mail exec " {
+		t.Errorf("example notifier kinds: %s", kinds)
+	}
+	if !strings.Contains(string(b), "never a safety interlock") {
+		t.Error("the example lacks the safety caution")
+	}
+}
