@@ -99,9 +99,12 @@ func (d *Daemon) buildLink(name string, lc *LinkConfig) (*link, error) {
 
 func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, error) {
 	dim := gaugeDim(gc.Kind)
-	unit, err := calib.ParseUnit(gc.Unit, dim)
-	if err != nil {
-		return nil, err
+	var unit calib.Unit // a digital state has none
+	if dim != 0 {
+		var err error
+		if unit, err = calib.ParseUnit(gc.Unit, dim); err != nil {
+			return nil, err
+		}
 	}
 	g := &gauge{name: name, cfg: gc, dim: dim, unit: unit, transfer: calib.Identity{}}
 	switch gc.Driver {

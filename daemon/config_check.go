@@ -50,7 +50,7 @@ func (v *checker) expect(ok bool, path, format string, a ...any) {
 }
 
 var (
-	gaugeKinds     = []string{"pressure", "temperature"}
+	gaugeKinds     = []string{"pressure", "temperature", "state"}
 	simInstruments = []string{"pirani", "cdg", "ion", "thermocouple"}
 )
 
@@ -212,7 +212,9 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 	if g.Timeout == 0 {
 		g.Timeout = Duration(min(g.Interval.D(), 2*time.Second))
 	}
-	v.expect(slices.Contains(gaugeKinds, g.Kind), path+".kind", "want %s, got %q", strings.Join(gaugeKinds, " or "), g.Kind)
+	v.expect(slices.Contains(gaugeKinds, g.Kind), path+".kind", "want pressure, temperature or state (a digital input such as a valve-closed switch), got %q", g.Kind)
+	v.expect(g.Kind != "state" || g.Unit == "" && g.Transfer == nil && g.RawUnit == "", path+".kind",
+		"a state gauge reads 0 or 1 (invert: true on a Modbus input flips it); it takes no unit, raw_unit or transfer")
 	dim := gaugeDim(g.Kind)
 	if g.Unit == "" {
 		g.Unit = map[calib.Dimension]string{calib.Pressure: "Pa", calib.Temperature: "C"}[dim]

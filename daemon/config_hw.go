@@ -60,6 +60,9 @@ type ModbusGaugeConfig struct {
 	Scale     float64 `yaml:"scale"`
 	Offset    float64 `yaml:"offset"`
 	Invert    bool    `yaml:"invert"`
+	// StatusRegister holds the instrument's status code, mapped by the
+	// gauge's status: key.
+	StatusRegister *uint16 `yaml:"status_register"`
 }
 
 // TransferConfig maps an analogue output (volts) to pressure. Exactly one
@@ -157,7 +160,17 @@ func driverOptions(name string, g *GaugeConfig) (drivers.Options, error) {
 		}
 		m := g.Modbus
 		o.Modbus = drivers.ModbusOptions{Unit: m.Unit, Table: m.Table, Address: m.Address, Type: m.Type,
-			WordOrder: m.WordOrder, Scale: m.Scale, Offset: m.Offset, Invert: m.Invert}
+			WordOrder: m.WordOrder, Scale: m.Scale, Offset: m.Offset, Invert: m.Invert, StatusRegister: m.StatusRegister}
+		if len(g.Status) > 0 {
+			o.Modbus.Status = map[string]drivers.Status{}
+			for code, st := range g.Status {
+				s, err := drivers.ParseStatus(st)
+				if err != nil {
+					errs = append(errs, fmt.Sprintf("status.%s: %v", code, err))
+				}
+				o.Modbus.Status[code] = s
+			}
+		}
 		if err := o.Modbus.Validate(); err != nil {
 			for _, e := range strings.Split(err.Error(), "\n") {
 				errs = append(errs, "modbus."+e)

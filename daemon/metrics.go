@@ -55,6 +55,9 @@ var (
 	descTemperature = prometheus.NewDesc("holdfast_temperature_celsius",
 		"Last valid temperature read by the poller. Absent while the gauge has no valid reading.",
 		[]string{"gauge"}, nil)
+	descState = prometheus.NewDesc("holdfast_digital_state",
+		"Last state read from a digital input (a valve-closed switch, a pump-running contact): 1 on, 0 off. Absent while unknown.",
+		[]string{"gauge"}, nil)
 	descUp = prometheus.NewDesc("holdfast_gauge_up",
 		"1 if the gauge answered its last polls and reports no sensor fault, else 0.",
 		[]string{"gauge"}, nil)
@@ -104,9 +107,9 @@ func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
 		if v.last.Quality != calib.QualityOK || v.stale || !v.up {
 			continue
 		}
-		desc := descPressure
-		if v.kind == "temperature" {
-			desc = descTemperature
+		desc := map[string]*prometheus.Desc{"pressure": descPressure, "temperature": descTemperature, "state": descState}[v.kind]
+		if desc == nil {
+			continue
 		}
 		ch <- prometheus.MustNewConstMetric(desc, prometheus.GaugeValue, v.last.Value, v.name)
 	}

@@ -4,6 +4,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
+	"strconv"
 	"strings"
 
 	"github.com/simonvetter/modbus"
@@ -21,15 +23,23 @@ import (
 // unit; the gauge's transfer function or calibration goes from there.
 // Coils and discrete inputs read as 1 (on) or 0 (off), Invert swapping them,
 // for digital states such as a valve-closed switch.
+//
+// StatusRegister, when set, is a register of the same table holding the
+// instrument's status code, read in the same poll; Status maps its decimal
+// code to ok, over-range, under-range, sensor-fault or off (a code missing
+// from the map is an error naming it). Without a status register a value
+// that decodes as NaN reads as sensor-fault, never as an ok NaN.
 type ModbusOptions struct {
-	Unit      uint8 // 1..247 on a serial bus; 0 means 1
-	Table     string
-	Address   uint16
-	Type      string
-	WordOrder string
-	Scale     float64
-	Offset    float64
-	Invert    bool
+	Unit           uint8 // 1..247 on a serial bus; 0 means 1
+	Table          string
+	Address        uint16
+	Type           string
+	WordOrder      string
+	Scale          float64
+	Offset         float64
+	Invert         bool
+	StatusRegister *uint16
+	Status         map[string]Status
 }
 
 // Validate reports every problem with the options, each naming its field.
@@ -55,6 +65,12 @@ func (o ModbusOptions) Validate() error {
 	}
 	if o.Unit > 247 {
 		errs = append(errs, fmt.Errorf("unit: serial-line units are 1..247, got %d", o.Unit))
+	}
+	if o.StatusRegister != nil && isBitTable(o.Table) {
+		errs = append(errs, fmt.Errorf("status_register: a %s has no status register", o.Table))
+	}
+	if o.StatusRegister != nil && len(o.Status) == 0 {
+		errs = append(errs, errors.New(`status: map the status register's codes, e.g. status: {"0": ok, "1": under-range, "2": over-range, "3": sensor-fault}`))
 	}
 	return errors.Join(errs...)
 }
@@ -94,16 +110,39 @@ func (d *Modbus) Read(ctx context.Context) (Reading, error) {
 	start := d.opts.now()
 	d.tracePDU("send", d.requestPDU())
 	var v float64
+	var code uint16
 	err := d.link.do(ctx, d.mo.Unit, func(c *modbus.ModbusClient) error {
 		var err error
-		v, err = d.readValue(c)
+		if v, err = d.readValue(c); err != nil || d.mo.StatusRegister == nil {
+			return err
+		}
+		code, err = c.ReadRegister(*d.mo.StatusRegister, d.registerKind())
 		return err
 	})
 	if err != nil {
 		return Reading{}, &GaugeError{Gauge: d.opts.Gauge, Op: "read", Err: err}
 	}
 	end := d.opts.now()
-	return Reading{Raw: v*d.mo.Scale + d.mo.Offset, Status: StatusOK, At: start.Add(end.Sub(start) / 2)}, nil
+	r := Reading{Raw: v*d.mo.Scale + d.mo.Offset, Status: StatusOK, At: start.Add(end.Sub(start) / 2)}
+	switch {
+	case d.mo.StatusRegister != nil:
+		st, ok := d.mo.Status[strconv.Itoa(int(code))]
+		if !ok {
+			return Reading{}, &GaugeError{Gauge: d.opts.Gauge, Op: "parse reply",
+				Err: fmt.Errorf("status register %d holds code %d, which status does not map", *d.mo.StatusRegister, code)}
+		}
+		r.Status = st
+	case math.IsNaN(r.Raw):
+		r.Status = StatusSensorFault
+	}
+	return r, nil
+}
+
+func (d *Modbus) registerKind() modbus.RegType {
+	if d.mo.Table == "input" {
+		return modbus.INPUT_REGISTER
+	}
+	return modbus.HOLDING_REGISTER
 }
 
 func (d *Modbus) readValue(c *modbus.ModbusClient) (float64, error) {
@@ -125,16 +164,15 @@ func (d *Modbus) readValue(c *modbus.ModbusClient) (float64, error) {
 		}
 		return 0, nil
 	}
-	kind := modbus.HOLDING_REGISTER
-	if d.mo.Table == "input" {
-		kind = modbus.INPUT_REGISTER
-	}
-	regs, err := c.ReadRegisters(d.mo.Address, d.count, kind)
+	regs, err := c.ReadRegisters(d.mo.Address, d.count, d.registerKind())
 	if err != nil {
 		return 0, err
 	}
 	d.traceRegs(regs)
 	v, err := DecodeRegisters(regs, d.mo.Type, d.mo.WordOrder == "low-first")
+	if errors.Is(err, errNotMeasurement) {
+		return math.NaN(), nil // read as a sensor fault unless a status register says otherwise
+	}
 	if err != nil {
 		return 0, fmt.Errorf("decode: %w", err)
 	}

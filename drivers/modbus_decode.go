@@ -1,6 +1,7 @@
 package drivers
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -54,10 +55,14 @@ func DecodeRegisters(regs []uint16, typ string, lowWordFirst bool) (float64, err
 	}
 	f := float64(math.Float32frombits(u))
 	if math.IsNaN(f) || math.IsInf(f, 0) {
-		return 0, fmt.Errorf("registers %04X %04X hold a float32 %v, not a measurement", regs[0], regs[1], f)
+		return 0, fmt.Errorf("registers %04X %04X hold a float32 %v: %w", regs[0], regs[1], f, errNotMeasurement)
 	}
 	return f, nil
 }
+
+// errNotMeasurement marks a float32 NaN or infinity: the instrument has no
+// value to give (a sensor fault), which is not a transport failure.
+var errNotMeasurement = errors.New("not a measurement")
 
 // Modbus tables a gauge can read.
 var modbusTables = []string{"holding", "input", "coil", "discrete"}

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math"
 	"net"
+	"strings"
 	"sync"
 	"testing"
 	"time"
@@ -207,5 +208,41 @@ func TestModbusRTUThroughPty(t *testing.T) {
 	// A unit nobody answers for times out without taking the bus down.
 	if _, err := readGauge(t, l, ModbusOptions{Unit: 9, Table: "discrete"}); !errors.Is(err, ErrNoReply) || IsLinkDown(err) {
 		t.Errorf("silent unit: err = %v, want no reply with the link up", err)
+	}
+}
+
+// A status register read in the same poll sets the reading's status; a
+// NaN value without one reads as a sensor fault, never as an ok NaN.
+func TestModbusStatusRegisterAndNaN(t *testing.T) {
+	bank := newBank()
+	bank.setFloat(0, 7.5e-4)
+	bank.holding[100] = 2
+	bank.holding[4], bank.holding[5] = 0x7FC0, 0x0000 // float32 quiet NaN (IEEE 754)
+	addr := freeAddr(t)
+	srv := startTCPServer(t, addr, bank)
+	defer srv.Stop()
+	l, err := OpenModbus(ModbusConfig{Name: "plc", TCP: &TCPConfig{Address: addr, Timeout: 300 * time.Millisecond}}, testLogger(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer l.Close()
+	reg := uint16(100)
+	codes := map[string]Status{"0": StatusOK, "2": StatusOverRange}
+	r, err := readGauge(t, l, ModbusOptions{Table: "holding", Address: 0, Type: "float32", StatusRegister: &reg, Status: codes})
+	if err != nil || r.Status != StatusOverRange {
+		t.Errorf("status code 2: got %v, %v; want over-range", r.Status, err)
+	}
+	bank.mu.Lock()
+	bank.holding[100] = 9
+	bank.mu.Unlock()
+	if _, err := readGauge(t, l, ModbusOptions{Table: "holding", Address: 0, Type: "float32", StatusRegister: &reg, Status: codes}); err == nil || !strings.Contains(err.Error(), "code 9") {
+		t.Errorf("unmapped code: err = %v, want one naming code 9", err)
+	}
+	r, err = readGauge(t, l, ModbusOptions{Table: "holding", Address: 4, Type: "float32"})
+	if err != nil || r.Status != StatusSensorFault {
+		t.Errorf("NaN value: got %v, %v; want sensor-fault", r.Status, err)
+	}
+	if err := (ModbusOptions{Table: "input", Type: "float32", StatusRegister: &reg}).Validate(); err == nil {
+		t.Error("a status register without a status map validated")
 	}
 }
