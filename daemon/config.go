@@ -16,7 +16,12 @@ type Config struct {
 	Alarms  []*AlarmConfig          `yaml:"alarms"`
 	Notify  []*NotifyConfig         `yaml:"notify"`
 
-	lines map[string]int // config path -> line, for problems found after loading
+	// Notes are remarks from checking that are not problems (a secret file
+	// not readable on the checking machine).
+	Notes []string `yaml:"-"`
+
+	lines     map[string]int // config path -> line, for problems found after loading
+	checkOnly bool           // loaded by CheckConfig
 }
 
 // ChamberConfig describes the vacuum vessel the gauges watch.

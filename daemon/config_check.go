@@ -18,6 +18,11 @@ type checker struct {
 	probs []Problem
 }
 
+// secretsOptional is set on a config being checked rather than run: a secret
+// file that cannot be read here becomes a note, not a problem, so a config
+// can be checked on a machine that does not hold the site's secrets.
+func (v *checker) secretsOptional() bool { return v.cfg.checkOnly }
+
 func (v *checker) line(path string) int {
 	for p := path; p != ""; {
 		if l, ok := v.cfg.lines[p]; ok {

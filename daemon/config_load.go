@@ -42,17 +42,25 @@ func (e *ConfigError) Error() string {
 
 // LoadConfig reads and checks a config file. On any problem it returns a
 // *ConfigError listing all of them.
-func LoadConfig(path string) (*Config, error) {
+func LoadConfig(path string) (*Config, error) { return loadConfig(path, false) }
+
+// CheckConfig is LoadConfig for checking a config on another machine than
+// the one that runs it: secret files it cannot read become Notes.
+func CheckConfig(path string) (*Config, error) { return loadConfig(path, true) }
+
+func loadConfig(path string, checkOnly bool) (*Config, error) {
 	b, err := os.ReadFile(path)
 	if err != nil {
 		return nil, fmt.Errorf("read config: %w", err)
 	}
-	return ParseConfig(path, b)
+	return parseConfig(path, b, checkOnly)
 }
 
 // ParseConfig checks config text; name is used in problems.
-func ParseConfig(name string, b []byte) (*Config, error) {
-	cfg := &Config{File: name, lines: map[string]int{}}
+func ParseConfig(name string, b []byte) (*Config, error) { return parseConfig(name, b, false) }
+
+func parseConfig(name string, b []byte, checkOnly bool) (*Config, error) {
+	cfg := &Config{File: name, lines: map[string]int{}, checkOnly: checkOnly}
 	fail := func(p []Problem) error { return &ConfigError{File: name, Problems: p} }
 
 	var root yaml.Node

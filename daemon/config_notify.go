@@ -192,6 +192,10 @@ func (v *checker) secret(path, file string, required bool) []byte {
 		return nil
 	}
 	b, err := os.ReadFile(file)
+	if err != nil && v.secretsOptional() {
+		v.cfg.Notes = append(v.cfg.Notes, fmt.Sprintf("%s: cannot read the secret here (%v); the daemon will need it", path, err))
+		return nil
+	}
 	if err != nil {
 		v.problem(path, "cannot read the secret: %v", err)
 		return nil

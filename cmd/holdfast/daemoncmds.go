@@ -54,13 +54,16 @@ func cmdCheck(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	}
 	bad := 0
 	for _, f := range files {
-		cfg, err := daemon.LoadConfig(f)
+		cfg, err := daemon.CheckConfig(f)
 		if err != nil {
 			bad++
 			fmt.Fprintln(stderr, describeConfigError(err))
 			continue
 		}
 		fmt.Fprintln(stdout, daemon.Summary(cfg))
+		for _, n := range cfg.Notes {
+			fmt.Fprintf(stdout, "%s: note: %s\n", f, n)
+		}
 	}
 	if bad > 0 {
 		return exitError(1)
