@@ -108,7 +108,9 @@ func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
 // was handed over; a crash in between hands it over again after the
 // restart, under the same dedupe key.
 func (d *Daemon) deliver(ev alerts.Event) {
-	d.notify(ev)
+	if d.notify(ev) != nil {
+		return // not on disk: handed over again after a restart
+	}
 	if err := d.alarms.Delivered(ev.DedupeKey); err != nil {
 		d.log.Warn("could not record an alarm notification as handed over; it may be handed over again after a restart",
 			"alarm", ev.Alarm, "key", ev.DedupeKey, "err", err)

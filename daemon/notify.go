@@ -2,28 +2,32 @@ package daemon
 
 import (
 	"context"
-	"strings"
+	"math"
 	"time"
 
 	"holdfast/alerts"
 	"holdfast/alerts/notify"
+	"holdfast/calib"
 )
 
 // notify hands an alarm transition to the notifiers: it is in the outbox,
-// on disk, for every notifier that wants it, before notify returns. The
-// sending happens in notifyLoop.
-func (d *Daemon) notify(ev alerts.Event) {
+// on disk, for every notifier that wants it, before notify returns nil. The
+// sending happens in notifyLoop. An error means it is not queued; the alarm
+// engine then hands it over again after a restart.
+func (d *Daemon) notify(ev alerts.Event) error {
 	n := d.notifiers()
 	if n == nil {
-		return
+		return nil
 	}
 	tr, ok := transitionOf(d.cfg.Chamber.Name, ev)
 	if !ok {
-		return
+		return nil
 	}
 	if err := n.enqueue(tr); err != nil {
 		n.log.Error("alarm transition not queued for notification", "alarm", tr.Alarm, "event", tr.Event, "err", err)
+		return err
 	}
+	return nil
 }
 
 // notifyLoop delivers queued notifications, re-posts active alarms to
@@ -39,42 +43,41 @@ func (d *Daemon) notifyLoop(ctx context.Context) {
 }
 
 // The mapping from the alarm engine's events to what notifiers report
-// lives in the next two functions and nowhere else.
+// lives in transitionOf and nowhere else.
 
 // transitionOf turns an engine event into a notification; false means the
-// event is not a transition to tell anyone about (a limit crossed whose
-// on-delay is still running).
+// event is not one to tell anyone about: a limit crossed whose on-delay is
+// still running, or a raise or clear while the alarm is shelved,
+// suppressed or out of service (recorded in the history, not annunciated).
 func transitionOf(chamber string, ev alerts.Event) (notify.Transition, bool) {
-	kind := string(ev.Kind)
-	state, ok := stateAfter[kind]
-	if !ok {
+	if !ev.Transition() {
 		return notify.Transition{}, false
 	}
+	switch ev.State {
+	case alerts.Shelved, alerts.Suppressed, alerts.OutOfService:
+		if ev.Kind == alerts.Raised || ev.Kind == alerts.Cleared {
+			return notify.Transition{}, false
+		}
+	}
 	tr := notify.Transition{Chamber: chamber, Alarm: ev.Alarm, Gauge: ev.Gauge, Severity: string(ev.Severity),
-		Event: kind, State: state, Message: ev.Message, At: ev.At, DedupeKey: dedupeKey(chamber, ev)}
+		Event: string(ev.Kind), State: string(ev.State), Message: ev.Message, At: ev.At, Unit: ev.Unit,
+		DedupeKey: chamber + "/" + ev.DedupeKey}
+	if u, err := calib.LookupUnit(ev.Unit); err == nil {
+		tr.Value, tr.Limit = inUnit(ev.Value, u), inUnit(ev.Limit, u)
+	}
 	if tr.Active() {
 		tr.Since = ev.At
 	}
 	return tr, true
 }
 
-// stateAfter is the alarm state each event kind leaves (IEC 62682 names).
-// The engine's events will carry their state; until then it is implied by
-// the kind, as the limit engine knows no acknowledgement.
-var stateAfter = map[string]string{
-	"raised":       notify.StateUnacknowledged,
-	"cleared":      notify.StateNormal,
-	"acknowledged": notify.StateAcknowledged,
-	"shelved":      notify.StateShelved,
-	"unshelved":    notify.StateNormal,
-}
-
-// dedupeKey names one transition uniquely and reproducibly: the same
-// transition reported again (after a restart) gets the same key. The
-// chamber comes first so receivers shared by several daemons can keep
-// keys apart.
-func dedupeKey(chamber string, ev alerts.Event) string {
-	return strings.Join([]string{chamber, ev.Alarm, string(ev.Kind), ev.At.UTC().Format(time.RFC3339Nano)}, "/")
+// inUnit converts an SI value for a notification; nil when there is none.
+func inUnit(si float64, u calib.Unit) *float64 {
+	if math.IsNaN(si) || math.IsInf(si, 0) {
+		return nil
+	}
+	v := u.FromSI(si)
+	return &v
 }
 
 // activeAlarms lists the alarms active now, as notifications, so that an

@@ -101,3 +101,30 @@ notify:
 		}
 	})
 }
+
+// transitionOf carries the engine's state and key, and gives value and
+// limit in the unit the message uses (1 mbar = 100 Pa, REFERENCES.md §1b);
+// a raise while shelved is recorded but not annunciated.
+func TestTransitionOfUsesEngineFields(t *testing.T) {
+	at := time.Date(2031, 1, 2, 3, 4, 5, 0, time.UTC)
+	ev := alerts.Event{Kind: alerts.Raised, Alarm: "vac", Gauge: "p", Severity: "high", At: at,
+		State: alerts.Unacknowledged, Value: 250, Limit: 100, Unit: "mbar", DedupeKey: "vac/7/unacknowledged"}
+	tr, ok := transitionOf("bake-1", ev)
+	if !ok {
+		t.Fatal("a raise was not notified")
+	}
+	if tr.State != "unacknowledged" || tr.DedupeKey != "bake-1/vac/7/unacknowledged" {
+		t.Errorf("state %q key %q", tr.State, tr.DedupeKey)
+	}
+	if tr.Value == nil || *tr.Value != 2.5 || tr.Limit == nil || *tr.Limit != 1 {
+		t.Errorf("value %v limit %v, want 2.5 and 1 mbar", tr.Value, tr.Limit)
+	}
+	ev.State = alerts.Shelved
+	if _, ok := transitionOf("bake-1", ev); ok {
+		t.Error("a raise while shelved was annunciated")
+	}
+	ev.Kind, ev.State = alerts.LimitCrossed, alerts.Normal
+	if _, ok := transitionOf("bake-1", ev); ok {
+		t.Error("a limit crossing (on-delay running) was notified")
+	}
+}

@@ -3,6 +3,7 @@ package daemon
 import (
 	"context"
 	"encoding/json"
+	"fmt"
 	"io"
 	"log/slog"
 	"net"
@@ -82,10 +83,18 @@ func (rc *receiver) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 	}
 }
 
+// raiseEvent builds an event the way the engine does: the state after it
+// and a dedupe key that is the same whenever the same transition is
+// reported (here the time stands in for the engine's sequence number).
 func raiseEvent(alarm string, kind alerts.EventKind, at time.Time) alerts.Event {
-	return alerts.Event{Kind: kind, Alarm: alarm, Gauge: "pirani", Severity: "high", At: at,
-		Message: "pirani " + string(kind) + " (invented test event)"}
+	st := map[alerts.EventKind]alerts.State{alerts.Raised: alerts.Unacknowledged, alerts.Cleared: alerts.Normal}[kind]
+	return alerts.Event{Kind: kind, Alarm: alarm, Gauge: "pirani", Severity: "high", At: at, State: st,
+		Value: 250, Limit: 100, Unit: "mbar", Message: "pirani " + string(kind) + " (invented test event)",
+		DedupeKey: fmt.Sprintf("%s/%d/%s", alarm, at.Unix(), st)}
 }
+
+// dedupeKey is the key a receiver sees for ev from chamber.
+func dedupeKey(chamber string, ev alerts.Event) string { return chamber + "/" + ev.DedupeKey }
 
 // A receiver that is down (connection refused), then refusing (503), then
 // up receives every transition, in order, exactly once by dedupe key: the
