@@ -61,6 +61,8 @@ type Daemon struct {
 	ln       net.Listener
 	token    string // bearer token for changes; empty refuses them
 	progress progress
+	ntfMu    sync.Mutex
+	ntf      *notifierSet               // nil when no notifiers are configured
 	trace    func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
 
 	flushMu  sync.Mutex
@@ -98,6 +100,11 @@ func New(cfg *Config, opt Options) (d *Daemon, err error) {
 	}
 	if err := d.loadCalibrations(); err != nil {
 		return nil, errors.Join(err, d.store.Close())
+	}
+	if len(cfg.Notify) > 0 {
+		if d.ntf, err = newNotifierSet(cfg, d.store.Bolt(), d.clock, d.log.With("part", "notify")); err != nil {
+			return nil, errors.Join(fmt.Errorf("notifiers: %w", err), d.store.Close())
+		}
 	}
 	d.met = newMetrics(d)
 	if d.ln, err = net.Listen("tcp", cfg.HTTP.Listen); err != nil {

@@ -35,31 +35,24 @@ type sink struct {
 	lastResend             atomic.Int64 // Unix ns of the last good re-post
 }
 
-// notifierSets holds each daemon's notifiers, built on first use. The set
-// belongs in a Daemon field built by New; until that line is added there,
-// it is found here by daemon.
-var notifierSets = struct {
-	sync.Mutex
-	m map[*Daemon]*notifierSet
-}{m: map[*Daemon]*notifierSet{}}
-
-// notifiers returns the daemon's notifiers, building them on first use;
-// nil when none are configured or they could not be built (said once).
+// notifiers returns the daemon's notifiers, nil when none are configured.
+// New builds them; a Daemon assembled by hand (in tests) builds them on
+// first use.
 func (d *Daemon) notifiers() *notifierSet {
 	if len(d.cfg.Notify) == 0 {
 		return nil
 	}
-	notifierSets.Lock()
-	defer notifierSets.Unlock()
-	if n, ok := notifierSets.m[d]; ok {
-		return n
+	d.ntfMu.Lock()
+	defer d.ntfMu.Unlock()
+	if d.ntf == nil {
+		n, err := newNotifierSet(d.cfg, d.store.Bolt(), d.clock, d.log.With("part", "notify"))
+		if err != nil {
+			d.log.Error("notifiers not started; alarms will not be sent", "err", err)
+			return nil
+		}
+		d.ntf = n
 	}
-	n, err := newNotifierSet(d.cfg, d.store.Bolt(), d.clock, d.log.With("part", "notify"))
-	if err != nil {
-		d.log.Error("notifiers not started; alarms will not be sent", "err", err)
-	}
-	notifierSets.m[d] = n
-	return n
+	return d.ntf
 }
 
 func newNotifierSet(cfg *Config, db *bolt.DB, clock Clock, log *slog.Logger) (*notifierSet, error) {
