@@ -37,6 +37,7 @@ type Engine struct {
 	store    Store
 	attached bool
 	saveErr  error
+	holdTest string // id of the hold test running, if any; see ClaimHoldTest
 }
 
 // NewEngine returns an engine for the given alarms. Names must be unique.
@@ -180,7 +181,8 @@ var ErrUnknownAlarm = errors.New("no such alarm")
 var ErrNoChange = errors.New("nothing to change")
 
 // SetIsolated tells every rise-watch alarm that is not set to watch always
-// whether the chamber is isolated from its pumps.
+// whether the chamber is isolated from its pumps. Rise watches that read
+// the isolation from a switch (RiseWatch.IsolatedBy) ignore it.
 func (e *Engine) SetIsolated(on bool) {
 	e.mu.Lock()
 	defer e.mu.Unlock()

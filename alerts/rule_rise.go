@@ -26,27 +26,43 @@ type RiseWatch struct {
 	MaxLeak float64       // Pa·m³/s
 	Volume  float64       // m³
 	Always  bool
-	Unit    calib.Unit // throughput unit for messages, e.g. mbar·L/s
-	Options RiseOptions
+	// IsolatedBy names the state gauge that reads 1 while the chamber is
+	// isolated; when set, SetIsolated has no effect.
+	IsolatedBy string
+	Unit       calib.Unit // throughput unit for messages, e.g. mbar·L/s
+	Options    RiseOptions
 
-	isolated bool
-	buf      Rise
-	t0, last time.Time
-	Last     RiseResult // the newest analysis, for the API
+	isolated    bool
+	switchKnown bool // IsolatedBy has given a valid reading since the last invalid one
+	buf         Rise
+	t0, last    time.Time
+	Last        RiseResult // the newest analysis, for the API
 }
 
 // Kind returns "rise-watch".
 func (r *RiseWatch) Kind() string { return "rise-watch" }
 
-// Gauges returns the gauge whose rise is watched.
-func (r *RiseWatch) Gauges() []string { return []string{r.Gauge} }
+// Gauges returns the gauge whose rise is watched and the isolation switch, if any.
+func (r *RiseWatch) Gauges() []string {
+	if r.IsolatedBy != "" {
+		return []string{r.Gauge, r.IsolatedBy}
+	}
+	return []string{r.Gauge}
+}
 
 // Tick decides nothing: the analysis runs on samples.
 func (r *RiseWatch) Tick(time.Time, bool) Condition { return unknown() }
 
 // SetIsolated says whether the chamber is isolated from its pumps; the
-// window starts afresh at each change.
+// window starts afresh at each change. It is ignored when IsolatedBy is
+// set: the switch decides.
 func (r *RiseWatch) SetIsolated(on bool) {
+	if r.IsolatedBy == "" {
+		r.isolate(on)
+	}
+}
+
+func (r *RiseWatch) isolate(on bool) {
 	if on != r.isolated {
 		r.buf.Reset()
 		r.last = time.Time{}
@@ -54,8 +70,15 @@ func (r *RiseWatch) SetIsolated(on bool) {
 	r.isolated = on
 }
 
-// Observe adds a valid sample to the window and analyses it now and then.
-func (r *RiseWatch) Observe(_ string, s calib.Sample, active bool) Condition {
+// Observe reads the isolation switch, or adds a valid sample of the
+// watched gauge to the window and analyses it now and then.
+func (r *RiseWatch) Observe(gauge string, s calib.Sample, active bool) Condition {
+	if r.IsolatedBy != "" && gauge == r.IsolatedBy && gauge != r.Gauge {
+		return r.observeSwitch(s)
+	}
+	if !r.Always && r.IsolatedBy != "" && !r.switchKnown {
+		return unknown() // isolation unknown: decide nothing
+	}
 	if !r.Always && !r.isolated {
 		c := unknown()
 		c.Known, c.Detail = true, "chamber not isolated; rise watch idle"
@@ -86,6 +109,25 @@ func (r *RiseWatch) Observe(_ string, s calib.Sample, active bool) Condition {
 	}
 	r.Last = res
 	return r.judge(res)
+}
+
+// observeSwitch takes the isolation from a state sample: 1 isolated, 0
+// not; anything else leaves the isolation unknown. The window empties at
+// every change, so a rise never spans a pumped stretch.
+func (r *RiseWatch) observeSwitch(s calib.Sample) Condition {
+	if s.Quality != calib.QualityOK || (s.Value != 0 && s.Value != 1) {
+		r.switchKnown = false
+		r.isolate(false)
+		return unknown()
+	}
+	r.switchKnown = true
+	r.isolate(s.Value == 1)
+	if r.isolated {
+		return unknown() // the pressure samples decide
+	}
+	c := unknown()
+	c.Known, c.Detail = true, fmt.Sprintf("chamber not isolated (%s reads open); rise watch idle", r.IsolatedBy)
+	return c
 }
 
 func (r *RiseWatch) judge(res RiseResult) Condition {
