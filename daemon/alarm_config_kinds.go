@@ -20,9 +20,10 @@ type RiseWatchConfig struct {
 	Window  Duration   `yaml:"window"`   // default 10 min
 	Every   Duration   `yaml:"every"`    // analyse this often; default window/20
 	MaxLeak Throughput `yaml:"max_leak"` // the leak rate that raises the alarm
-	// While says when the chamber counts as isolated: "always", or "api"
-	// (POST /api/v1/isolation). Default api.
-	While string `yaml:"while"`
+	// While says when the chamber counts as isolated: always, api (POST
+	// /api/v1/isolation, hold tests) or {gauge: NAME} (a state gauge that
+	// reads 1 while isolated). Default api.
+	While While  `yaml:"while"`
 	Unit  string `yaml:"unit"` // leak-rate unit for messages; default mbar*L/s
 }
 
@@ -84,10 +85,7 @@ func (v *checker) riseWatch(path string, a *AlarmConfig, g *GaugeConfig) {
 	}
 	v.expect(r.Window.D() >= 30*time.Second, path+".rise_watch.window", "want at least 30 s (a rise needs minutes to tell a leak from outgassing)")
 	v.expect(r.MaxLeak > 0, path+".rise_watch.max_leak", "missing or not positive; e.g. max_leak: 1e-5 mbar*L/s")
-	if r.While == "" {
-		r.While = "api"
-	}
-	v.expect(r.While == "always" || r.While == "api", path+".rise_watch.while", "want always or api, got %q", r.While)
+	v.riseWhile(path+".rise_watch.while", a)
 	if r.Unit == "" {
 		r.Unit = "mbar*L/s"
 	}
@@ -135,6 +133,13 @@ type HoldTestConfig struct {
 	Settle      Duration   `yaml:"settle"`   // wait after isolating; default 2 min
 	Duration    Duration   `yaml:"duration"` // record this long; default 10 min
 	Unit        string     `yaml:"unit"`     // leak-rate unit for messages; default mbar*L/s
+	// Confirm names a state gauge that reads 1 while the chamber is
+	// isolated: a test does not start while it reads open, and fails if
+	// it opens during the test. With a valve, the test waits (up to the
+	// valve's travel) for it after closing the valve.
+	Confirm  string          `yaml:"confirm"`
+	Valve    *ValveConfig    `yaml:"valve"`    // none: isolation is manual (the default)
+	Schedule *ScheduleConfig `yaml:"schedule"` // none: tests start from the API or the CLI only
 }
 
 func (v *checker) holdTest(path string, a *AlarmConfig, g *GaugeConfig) {
@@ -155,4 +160,5 @@ func (v *checker) holdTest(path string, a *AlarmConfig, g *GaugeConfig) {
 	if _, err := calib.ParseUnit(h.Unit, calib.Throughput); err != nil {
 		v.problem(path+".hold_test.unit", "%v", err)
 	}
+	v.holdIsolation(path+".hold_test", a)
 }

@@ -16,6 +16,7 @@ import (
 
 // Hold-test states.
 const (
+	holdClosing   = "closing" // valve commanded closed; waiting for the confirm switch
 	holdSettling  = "settling"
 	holdRecording = "recording"
 	holdDone      = "done"
@@ -27,17 +28,21 @@ type HoldTestJSON struct {
 	ID              string    `json:"id"`
 	Gauge           string    `json:"gauge"`
 	Chamber         string    `json:"chamber"`
-	State           string    `json:"state"` // settling, recording, done, failed
+	State           string    `json:"state"` // closing, settling, recording, done, failed
 	Requested       time.Time `json:"requested"`
 	RecordFrom      time.Time `json:"record_from"`
 	RecordTo        time.Time `json:"record_to"`
 	SettleSeconds   float64   `json:"settle_s"`
 	DurationSeconds float64   `json:"duration_s"`
 	VolumeM3        float64   `json:"volume_m3"`
-	// Valve says who isolates the chamber: "simulator" (the daemon closes
-	// the simulated valve) or "manual" (a person, or the plant's own
-	// controls, must close it at the start; holdfast drives no real valve).
-	Valve       string             `json:"valve"`
+	// Valve says who isolates the chamber: "modbus" (the daemon wrote the
+	// configured coil, see ValveJSON), "simulator" (the daemon closes the
+	// simulated valve) or "manual" (a person, or the plant's own controls,
+	// must close it at the start).
+	Valve     string     `json:"valve"`
+	Coil      *ValveJSON `json:"coil,omitempty"`
+	Confirm   string     `json:"confirm,omitempty"` // the state gauge that says the chamber is isolated
+	Scheduled bool       `json:"scheduled,omitempty"`
 	AllowedLeak *float64           `json:"allowed_leak_pa_m3_per_s,omitempty"`
 	Verdict     string             `json:"verdict,omitempty"` // pass, fail, inconclusive
 	Summary     string             `json:"summary,omitempty"`
@@ -56,35 +61,78 @@ func (d *Daemon) holdDefaults(gauge string) *HoldTestConfig {
 	return nil
 }
 
-// startHoldTest stores a new hold test and isolates the chamber where the
-// daemon can (the simulator); rise-watch alarms are told it is isolated.
+// startHoldTest starts a hold test asked for through the API.
 func (d *Daemon) startHoldTest(gauge string, settle, dur time.Duration) (HoldTestJSON, error) {
+	return d.beginHoldTest(gauge, settle, dur, false)
+}
+
+// beginHoldTest stores a new hold test and isolates the chamber where the
+// daemon can (a configured valve, or the simulator); rise-watch alarms are
+// told it is isolated. Only one hold test runs at a time, and with a
+// confirm switch and no valve the test does not start while it reads open.
+func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, scheduled bool) (HoldTestJSON, error) {
 	g := d.cfg.Gauges[gauge]
 	if g == nil || g.Kind != "pressure" {
 		return HoldTestJSON{}, fmt.Errorf("gauge %q: want a configured pressure gauge", gauge)
 	}
-	if d.runningHoldTest() != "" {
-		return HoldTestJSON{}, fmt.Errorf("hold test %s is still running; wait for it to finish", d.runningHoldTest())
+	if id := d.alarms.RunningHoldTest(); id != "" {
+		return HoldTestJSON{}, fmt.Errorf("hold test %s is still running; wait for it to finish", id)
 	}
 	st := alarmstore.Wrap(d.store.Bolt())
 	id, err := st.NewHoldTestID()
 	if err != nil {
 		return HoldTestJSON{}, err
 	}
+	if running, ok := d.alarms.ClaimHoldTest(id); !ok {
+		return HoldTestJSON{}, fmt.Errorf("hold test %s is still running; wait for it to finish", running)
+	}
+	h, err := d.isolateForHoldTest(d.newHoldTest(id, gauge, settle, dur, scheduled))
+	if err == nil {
+		err = d.putHoldTest(st, h)
+	}
+	if err != nil {
+		d.putBackValve(d.log, &h)
+		d.alarms.ReleaseHoldTest(id)
+		return HoldTestJSON{}, err
+	}
+	d.alarms.SetIsolated(true)
+	return h, nil
+}
+
+func (d *Daemon) newHoldTest(id, gauge string, settle, dur time.Duration, scheduled bool) HoldTestJSON {
 	now := d.clock.Now()
 	h := HoldTestJSON{ID: id, Gauge: gauge, Chamber: d.cfg.Chamber.Name, State: holdSettling, Requested: now,
 		RecordFrom: now.Add(settle), RecordTo: now.Add(settle + dur), SettleSeconds: settle.Seconds(),
-		DurationSeconds: dur.Seconds(), VolumeM3: float64(d.cfg.Chamber.Volume), Valve: "manual", Unit: "mbar*L/s"}
+		DurationSeconds: dur.Seconds(), VolumeM3: float64(d.cfg.Chamber.Volume), Valve: "manual", Unit: "mbar*L/s",
+		Scheduled: scheduled}
 	if hc := d.holdDefaults(gauge); hc != nil {
-		h.AllowedLeak, h.Unit = finite(float64(hc.AllowedLeak)), hc.Unit
+		h.AllowedLeak, h.Unit, h.Confirm = finite(float64(hc.AllowedLeak)), hc.Unit, hc.Confirm
 	}
-	if d.simValve(gauge, true) {
-		h.Valve = "simulator"
-	}
-	d.alarms.SetIsolated(true)
-	return h, d.putHoldTest(st, h)
+	return h
 }
 
+// isolateForHoldTest closes the configured valve (the test then waits for
+// its confirm switch, if any), or checks that a person did (the confirm
+// switch reads closed), or closes the simulator's valve.
+func (d *Daemon) isolateForHoldTest(h HoldTestJSON) (HoldTestJSON, error) {
+	hc := d.holdDefaults(h.Gauge)
+	switch {
+	case hc != nil && hc.Valve != nil:
+		if err := d.closeValve(&h, hc.Valve); err != nil {
+			return h, err
+		}
+		if h.Confirm != "" {
+			h.State = holdClosing
+		}
+	case h.Confirm != "":
+		if closed, why := d.isolatedBySwitch(h.Confirm); !closed {
+			return h, fmt.Errorf("chamber not isolated: %s; close the isolation valve, then start the test", why)
+		}
+	case d.simValve(h.Gauge, true):
+		h.Valve = "simulator"
+	}
+	return h, nil
+}
 func (d *Daemon) putHoldTest(st *alarmstore.Store, h HoldTestJSON) error {
 	b, err := json.MarshalIndent(h, "", "  ")
 	if err != nil {
@@ -132,30 +180,15 @@ func (d *Daemon) recentHoldTests(n int) ([]HoldTestJSON, error) {
 	return out, nil
 }
 
-func (d *Daemon) runningHoldTest() string {
-	hs, _ := d.recentHoldTests(5)
-	for _, h := range hs {
-		if h.State == holdSettling || h.State == holdRecording {
-			return h.ID
-		}
-	}
-	return ""
-}
-
-// holdTests advances running hold tests at now: settle, record, analyse.
+// holdTests advances running hold tests at now: wait for the valve, settle,
+// record, analyse.
 func (d *Daemon) holdTests(_ context.Context, log *slog.Logger, st *alarmstore.Store, now time.Time) {
 	hs, err := d.recentHoldTests(5)
 	if err != nil {
 		log.Warn("hold tests unreadable", "err", err)
 	}
 	for _, h := range hs {
-		switch {
-		case h.State == holdSettling && !now.Before(h.RecordFrom):
-			h.State = holdRecording
-			log.Info("hold test recording", "id", h.ID, "gauge", h.Gauge)
-		case h.State == holdRecording && !now.Before(h.RecordTo):
-			d.finishHoldTest(log, &h, now)
-		default:
+		if !holdRunning(h.State) || !d.advanceHoldTest(log, &h, now) {
 			continue
 		}
 		if err := d.putHoldTest(st, h); err != nil {
@@ -164,9 +197,61 @@ func (d *Daemon) holdTests(_ context.Context, log *slog.Logger, st *alarmstore.S
 	}
 }
 
-func (d *Daemon) finishHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time) {
-	d.simValve(h.Gauge, false)
+func holdRunning(state string) bool {
+	return state == holdClosing || state == holdSettling || state == holdRecording
+}
+
+// advanceHoldTest moves h on at now and reports whether it changed.
+func (d *Daemon) advanceHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time) bool {
+	sw, why := switchUnknown, ""
+	if h.Confirm != "" {
+		sw, why = d.switchState(h.Confirm)
+	}
+	switch {
+	case h.State == holdClosing && sw == switchClosed:
+		settle, dur := time.Duration(h.SettleSeconds*float64(time.Second)), time.Duration(h.DurationSeconds*float64(time.Second))
+		h.State, h.RecordFrom, h.RecordTo = holdSettling, now.Add(settle), now.Add(settle+dur)
+		log.Info("hold test valve confirmed closed", "id", h.ID, "gauge", h.Gauge, "switch", h.Confirm)
+	case h.State == holdClosing && !now.Before(h.Requested.Add(d.valveTravel(h.Gauge))):
+		d.failHoldTest(log, h, now, fmt.Sprintf("valve not closed: %s after the coil was written, %s", d.valveTravel(h.Gauge), why))
+	case h.State != holdClosing && sw == switchOpen:
+		d.failHoldTest(log, h, now, fmt.Sprintf("isolation lost during the test: %s", why))
+	case h.State == holdSettling && !now.Before(h.RecordFrom):
+		h.State = holdRecording
+		log.Info("hold test recording", "id", h.ID, "gauge", h.Gauge)
+	case h.State == holdRecording && !now.Before(h.RecordTo):
+		d.finishHoldTest(log, h, now)
+	default:
+		return false
+	}
+	return true
+}
+
+// failHoldTest ends h without a result: the valve is put back and the
+// hold-test alarm is told the test was inconclusive.
+func (d *Daemon) failHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time, reason string) {
+	d.endIsolation(log, h)
+	h.State, h.Error, h.Verdict = holdFailed, reason, "inconclusive"
+	if h.Coil != nil && h.Coil.Error != "" {
+		h.Error += "; " + h.Coil.Error
+	}
+	log.Warn("hold test failed", "id", h.ID, "gauge", h.Gauge, "err", reason)
+	d.holdResult(log, h.Gauge, math.NaN(), now)
+}
+
+// endIsolation undoes what the test did to isolate the chamber and frees
+// the hold-test claim.
+func (d *Daemon) endIsolation(log *slog.Logger, h *HoldTestJSON) {
+	d.putBackValve(log, h)
+	if h.Valve == "simulator" {
+		d.simValve(h.Gauge, false)
+	}
 	d.alarms.SetIsolated(false)
+	d.alarms.ReleaseHoldTest(h.ID)
+}
+
+func (d *Daemon) finishHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time) {
+	d.endIsolation(log, h)
 	var ts, ps []float64
 	err := d.store.Range(h.Gauge, h.RecordFrom, h.RecordTo, func(p store.Point) bool {
 		if calib.Quality(p.Quality) == calib.QualityOK {
@@ -179,13 +264,14 @@ func (d *Daemon) finishHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time
 		err = aerr
 	}
 	if err != nil {
-		h.State, h.Error, h.Verdict = holdFailed, err.Error(), "inconclusive"
-		log.Warn("hold test failed", "id", h.ID, "gauge", h.Gauge, "err", err)
-		d.holdResult(log, h.Gauge, math.NaN(), now)
+		d.failHoldTest(log, h, now, err.Error())
 		return
 	}
 	h.State, h.Result = holdDone, &res
 	h.Verdict, h.Summary = holdVerdict(h, res)
+	if h.Coil != nil && h.Coil.Error != "" {
+		h.Error = h.Coil.Error
+	}
 	q := res.LeakRate
 	if res.Classification == alerts.Inconclusive {
 		q = math.NaN()

@@ -19,9 +19,10 @@ const (
 )
 
 // alarmLoop restores the alarm state from the store, hands undelivered
-// transitions to the notifiers again, then runs the time-driven alarm work
-// (stale and fault rules, delays, shelving expiry, health, hold tests)
-// until ctx is done.
+// transitions to the notifiers again, ends hold tests a crash interrupted,
+// then runs the time-driven alarm work (stale and fault rules, delays,
+// shelving expiry, health, hold tests and their schedules) until ctx is
+// done, when it ends running hold tests and puts their valves back.
 func (d *Daemon) alarmLoop(ctx context.Context) {
 	log := d.log.With("part", "alarms")
 	st, err := alarmstore.Open(d.store.Bolt())
@@ -39,6 +40,8 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 	for _, ev := range pending {
 		d.deliver(ev)
 	}
+	d.abortHoldTests(log, st, "the daemon stopped during the test (a crash, a kill or a power cut); its record is incomplete", false)
+	scheds := d.holdSchedules(d.clock.Now())
 	var lastHealth time.Time
 	for {
 		now := d.clock.Now()
@@ -50,8 +53,10 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 			d.observeHealth(log, now)
 		}
 		d.holdTests(ctx, log, st, now)
+		d.runSchedules(log, scheds, now)
 		select {
 		case <-ctx.Done():
+			d.abortHoldTests(log, st, "the daemon was stopped during the test", true)
 			return
 		case <-d.clock.After(alarmTick):
 		}
