@@ -39,10 +39,10 @@ type HoldTestJSON struct {
 	// configured coil, see ValveJSON), "simulator" (the daemon closes the
 	// simulated valve) or "manual" (a person, or the plant's own controls,
 	// must close it at the start).
-	Valve     string     `json:"valve"`
-	Coil      *ValveJSON `json:"coil,omitempty"`
-	Confirm   string     `json:"confirm,omitempty"` // the state gauge that says the chamber is isolated
-	Scheduled bool       `json:"scheduled,omitempty"`
+	Valve       string             `json:"valve"`
+	Coil        *ValveJSON         `json:"coil,omitempty"`
+	Confirm     string             `json:"confirm,omitempty"` // the state gauge that says the chamber is isolated
+	Scheduled   bool               `json:"scheduled,omitempty"`
 	AllowedLeak *float64           `json:"allowed_leak_pa_m3_per_s,omitempty"`
 	Verdict     string             `json:"verdict,omitempty"` // pass, fail, inconclusive
 	Summary     string             `json:"summary,omitempty"`
