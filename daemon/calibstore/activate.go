@@ -36,7 +36,10 @@ func (s *Store) Activate(id uint32, at time.Time, note string) (replaced uint32,
 		if err := retireIn(vb, replaced, at, fmt.Sprintf("replaced by calibration %d", id)); err != nil {
 			return err
 		}
-		r.Activated = at
+		// Cleared, not compared with Activated: two actions in the same
+		// instant, or a clock step back, must not make an active version
+		// look retired.
+		r.Activated, r.Retired = at, time.Time{}
 		r.History = append(r.History, Change{At: at, Action: "activated", Note: note})
 		if err := putJSON(vb, key32(id), r); err != nil {
 			return err

@@ -61,7 +61,7 @@ type Record struct {
 	Notes       string             `json:"notes,omitempty"`
 	Created     time.Time          `json:"created"`
 	Activated   time.Time          `json:"activated,omitzero"` // the last activation
-	Retired     time.Time          `json:"retired,omitzero"`   // the last time another version (or none) replaced it
+	Retired     time.Time          `json:"retired,omitzero"`   // when another version (or none) replaced it; zero while active (History keeps every step)
 	History     []Change           `json:"history"`
 }
 
@@ -75,7 +75,7 @@ type Change struct {
 // State says whether r is active, was active once (retired), or never was (inactive).
 func (r Record) State() string {
 	switch {
-	case !r.Activated.IsZero() && (r.Retired.IsZero() || r.Retired.Before(r.Activated)):
+	case !r.Activated.IsZero() && r.Retired.IsZero():
 		return "active"
 	case !r.Retired.IsZero():
 		return "retired"
