@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"html"
+	"math"
 	"net/http"
 	"os"
 	"strings"
@@ -59,8 +60,10 @@ func (d *Daemon) apiGauges(w http.ResponseWriter, _ *http.Request) {
 		v := g.view(now)
 		j := gaugeJSON{Gauge: v.name, Kind: v.kind, Up: v.up && !v.stale}
 		if v.seen {
-			raw := v.last.Raw
-			j.Quality, j.At, j.Raw = v.last.Quality.String(), v.last.At, &raw
+			j.Quality, j.At = v.last.Quality.String(), v.last.At
+			if raw := v.last.Raw; !math.IsNaN(raw) && !math.IsInf(raw, 0) {
+				j.Raw = &raw // an instrument with no number (off, fault) has no raw value
+			}
 			if v.last.Quality == calib.QualityOK {
 				val := v.last.Value
 				j.Value, j.Display = &val, calib.Format(val, g.unit)
@@ -119,10 +122,15 @@ func apiError(w http.ResponseWriter, status int, msg string) {
 	_ = json.NewEncoder(w).Encode(map[string]string{"error": msg})
 }
 
-// writeJSON writes v as indented JSON.
+// writeJSON writes v as indented JSON. It encodes first, so a value that
+// cannot be encoded (a NaN) is a 500 with its reason, never a 200 with an
+// empty body.
 func writeJSON(w http.ResponseWriter, v any) {
+	b, err := json.MarshalIndent(v, "", "  ")
+	if err != nil {
+		apiError(w, http.StatusInternalServerError, "encode reply: "+err.Error())
+		return
+	}
 	w.Header().Set("Content-Type", "application/json")
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	_ = enc.Encode(v) // the client went away; nothing to do
+	_, _ = w.Write(append(b, '\n')) // the client went away; nothing to do
 }

@@ -1,6 +1,8 @@
 package daemon
 
 import (
+	"math"
+	"net/http/httptest"
 	"strings"
 	"testing"
 	"time"
@@ -55,5 +57,19 @@ func TestMetricsLint(t *testing.T) {
 		if strings.HasPrefix(p.Metric, "holdfast_") && !strings.Contains(p.Text, "should not include type 'gauge'") {
 			t.Errorf("%s: %s", p.Metric, p.Text)
 		}
+	}
+}
+
+// A gauge whose instrument gave no number (an ion gauge switched off, NaN
+// raw) still appears in /api/v1/gauges, without raw or value.
+func TestAPIGaugesWithNaNRaw(t *testing.T) {
+	g := fakeGauge("ion", time.Second, nil)
+	g.seen, g.up, g.last = true, true, calib.Sample{At: time.Now(), Raw: math.NaN(), Value: math.NaN(), Quality: calib.QualityOff}
+	d := testDaemon(t, g)
+	rec := httptest.NewRecorder()
+	d.apiGauges(rec, httptest.NewRequest("GET", "/api/v1/gauges", nil))
+	body := rec.Body.String()
+	if rec.Code != 200 || !strings.Contains(body, `"quality": "off"`) || strings.Contains(body, `"raw"`) {
+		t.Errorf("status %d, body %q; want 200 with quality off and no raw", rec.Code, body)
 	}
 }
