@@ -27,13 +27,18 @@ func (w *While) UnmarshalYAML(n *yaml.Node) error {
 		*w = While{Mode: n.Value, Line: n.Line}
 		return nil
 	case yaml.MappingNode:
-		if len(n.Content) != 2 || n.Content[0].Value != "gauge" || n.Content[1].Kind != yaml.ScalarNode {
-			return typeError(n, "%s", want)
+		for i := 0; i+1 < len(n.Content); i += 2 {
+			if k := n.Content[i]; k.Value != "gauge" {
+				return typeError(k, "while: unknown key %q; %s", k.Value, want)
+			}
+		}
+		if len(n.Content) != 2 || n.Content[1].Kind != yaml.ScalarNode {
+			return typeError(n, "while: %s", want)
 		}
 		*w = While{Mode: "gauge", Gauge: n.Content[1].Value, Line: n.Line}
 		return nil
 	}
-	return typeError(n, "%s", want)
+	return typeError(n, "while: %s", want)
 }
 
 // ValveConfig is an isolation valve the daemon closes for a hold test by
@@ -170,10 +175,10 @@ func (v *checker) holdSchedule(path string, h *HoldTestConfig) {
 	}
 	v.expect(s.Every > 0, path+".every", "missing; say how often, e.g. every: 24h")
 	long := h.Settle.D() + h.Duration.D()
-	if h.Valve != nil {
+	if h.Valve != nil && h.Confirm != "" {
 		long += h.Valve.Travel.D()
 	}
-	v.expect(s.Every <= 0 || s.Every.D() > long, path+".every", "a hold test here takes %s (settle, duration and valve travel); runs every %s would overlap",
+	v.expect(s.Every <= 0 || s.Every.D() > long, path+".every", "a hold test here takes %s (valve travel, settle and duration); runs every %s would overlap",
 		long, s.Every.D())
 	v.expect(h.Valve != nil || h.Confirm != "", path,
 		"a scheduled hold test needs a valve (a Modbus coil) or confirm (a switch that says the chamber was isolated): no one is there to close the valve")
