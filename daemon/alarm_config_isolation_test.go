@@ -1,6 +1,8 @@
 package daemon
 
 import (
+	"os"
+	"path/filepath"
 	"strings"
 	"testing"
 )
@@ -59,7 +61,8 @@ func TestIsolationConfigProblems(t *testing.T) {
 		"iso.yaml:26: alarms[3].hold_test: gauge ion already has a hold_test alarm at alarms[2]",
 		"alarms[3].hold_test.valve.link: link spare carries no gauge",
 		"alarms[3].hold_test.schedule.every: a hold test here takes 12m0s",
-		`iso.yaml:32: alarms[4].rise_watch.max_leak: while: unknown key "invert"`,
+		"iso.yaml:32: alarms[4].rise_watch", // the path yaml.v3's line points at
+		`while: unknown key "invert"`,
 	} {
 		if !strings.Contains(err.Error(), want) {
 			t.Errorf("missing problem %q in:\n%s", want, err)
@@ -97,4 +100,53 @@ func TestIsolationConfigGood(t *testing.T) {
 	if g := rw.Gauges(); len(g) != 2 || g[1] != "valve-closed" {
 		t.Errorf("rise watch reads %v, want ion and the valve-closed switch", g)
 	}
+}
+
+// The commented valve example at the end of alarms.yaml, uncommented and
+// merged with the simulated chamber above it, is a valid config.
+func TestAlarmExampleValveBlock(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "deploy", "examples", "alarms.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := string(b)
+	_, block, ok := strings.Cut(text, "# ---- valve example begin ----\n")
+	block, _, ok2 := strings.Cut(block, "# ---- valve example end ----")
+	if !ok || !ok2 {
+		t.Fatal("alarms.yaml lost its valve example markers")
+	}
+	var yamlLines []string
+	for _, l := range strings.Split(block, "\n") {
+		if after, ok := strings.CutPrefix(l, "# "); ok && (strings.HasPrefix(after, " ") || strings.HasSuffix(after, ":")) {
+			yamlLines = append(yamlLines, after)
+		}
+	}
+	example := strings.Join(yamlLines, "\n")
+	head, _, _ := strings.Cut(text, "\nalarms:\n")
+	head = strings.Replace(head, "\nlinks:\n", "\nlinks:\n"+section(example, "links:"), 1)
+	head = strings.Replace(head, "\ngauges:\n", "\ngauges:\n"+section(example, "gauges:"), 1)
+	cfg, err := ParseConfig("alarms-valve.yaml", []byte(head+"\nalarms:\n"+section(example, "alarms:")))
+	if err != nil {
+		t.Fatalf("%v\nin:\n%s", err, example)
+	}
+	h := cfg.Alarms[0].HoldTest
+	if h == nil || h.Valve == nil || h.Schedule == nil || cfg.Alarms[1].RiseWatch.While.Gauge != "valve-closed" {
+		t.Errorf("the example lost its valve, schedule or switch: %+v", cfg.Alarms)
+	}
+}
+
+// section returns the indented lines under a top-level key.
+func section(text, key string) string {
+	_, rest, ok := strings.Cut(text, key+"\n")
+	if !ok {
+		return ""
+	}
+	var out []string
+	for _, l := range strings.Split(rest, "\n") {
+		if !strings.HasPrefix(l, " ") {
+			break
+		}
+		out = append(out, l)
+	}
+	return strings.Join(out, "\n") + "\n"
 }

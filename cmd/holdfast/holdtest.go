@@ -42,11 +42,7 @@ func cmdHoldTest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 		if err := api.do(ctx, "POST", "/api/v1/holdtests", body, &h); err != nil {
 			return err
 		}
-		fmt.Fprintf(stdout, "hold test %s on %s: settling until %s, recording until %s (valve: %s)\n",
-			h.ID, h.Gauge, h.RecordFrom.Format("15:04:05"), h.RecordTo.Format("15:04:05"), h.Valve)
-		if h.Valve == "manual" {
-			fmt.Fprintln(stdout, "isolate the chamber now; holdfast drives no real valve and is not an interlock")
-		}
+		printHoldStart(stdout, h)
 		return nil
 	case "list":
 		var hs []daemon.HoldTestJSON
@@ -111,4 +107,23 @@ func writeIndented(w io.Writer, v any) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(v)
+}
+
+// printHoldStart says what a started hold test does next, and who must
+// close the valve.
+func printHoldStart(w io.Writer, h daemon.HoldTestJSON) {
+	switch {
+	case h.State == "closing" && h.Coil != nil:
+		fmt.Fprintf(w, "hold test %s on %s: valve coil %d on %s written; waiting for %s to read closed, then %gs settling and %gs recording\n",
+			h.ID, h.Gauge, h.Coil.Coil, h.Coil.Link, h.Confirm, h.SettleSeconds, h.DurationSeconds)
+	default:
+		fmt.Fprintf(w, "hold test %s on %s: settling until %s, recording until %s (valve: %s)\n",
+			h.ID, h.Gauge, h.RecordFrom.Format("15:04:05"), h.RecordTo.Format("15:04:05"), h.Valve)
+	}
+	switch h.Valve {
+	case "manual":
+		fmt.Fprintln(w, "isolate the chamber now; holdfast moves no valve here and is not an interlock")
+	case "modbus":
+		fmt.Fprintln(w, "holdfast puts the coil back when the test ends; it is not an interlock: the plant's own controls stay in charge")
+	}
 }
