@@ -85,7 +85,9 @@ func parseConfig(name string, b []byte, checkOnly bool) (*Config, error) {
 		if !errors.As(err, &te) {
 			return nil, fail(append(probs, Problem{Msg: err.Error()}))
 		}
-		probs = append(probs, typeProblems(te.Errors, cfg.lines)...)
+		vals := map[[2]int]string{}
+		valuePaths(doc, "", vals)
+		probs = append(probs, typeProblems(te.Errors, cfg.lines, vals)...)
 	}
 	probs = check(cfg, probs)
 	if len(probs) > 0 {

@@ -93,7 +93,7 @@ func decodeQ(n *yaml.Node, dim calib.Dimension, out *float64) error {
 }
 
 func typeError(n *yaml.Node, format string, a ...any) error {
-	return &yaml.TypeError{Errors: []string{fmt.Sprintf("line %d: %s", n.Line, fmt.Sprintf(format, a...))}}
+	return &yaml.TypeError{Errors: []string{fmt.Sprintf("line %d: column %d: %s", n.Line, n.Column, fmt.Sprintf(format, a...))}}
 }
 
 var unmarshalerType = reflect.TypeFor[yaml.Unmarshaler]()
@@ -169,16 +169,39 @@ func join(path, key string) string {
 	return path + "." + key
 }
 
-var yamlLine = regexp.MustCompile(`^(?:yaml: )?line (\d+): (.*)$`)
+var (
+	yamlLine   = regexp.MustCompile(`^(?:yaml: )?line (\d+): (?:column (\d+): )?(.*)$`)
+	yamlUnmarh = regexp.MustCompile("cannot unmarshal !!(\\w+)(?: `([^`]*)`)? into (\\S+)")
+)
 
-// typeProblems turns yaml.v3's "line N: ..." messages into problems, naming
-// the config path found on that line.
-func typeProblems(msgs []string, lines map[string]int) []Problem {
-	byLine := map[int]string{}
-	for p, l := range lines {
-		if q, ok := byLine[l]; !ok || len(p) > len(q) {
-			byLine[l] = p
+// valuePaths maps the position of every value node under n to its config
+// path, so a problem reported at a line and column names the right key
+// even in a one-line {a: 1, b: 2} mapping.
+func valuePaths(n *yaml.Node, path string, out map[[2]int]string) {
+	if n.Kind == yaml.DocumentNode && len(n.Content) == 1 {
+		n = n.Content[0]
+	}
+	out[[2]int{n.Line, n.Column}] = path
+	switch n.Kind {
+	case yaml.MappingNode:
+		for i := 0; i+1 < len(n.Content); i += 2 {
+			valuePaths(n.Content[i+1], join(path, n.Content[i].Value), out)
 		}
+	case yaml.SequenceNode:
+		for i, v := range n.Content {
+			valuePaths(v, fmt.Sprintf("%s[%d]", path, i), out)
+		}
+	}
+}
+
+// typeProblems turns yaml.v3's "line N: ..." messages into problems. A
+// message with a column (our own quantity types give one) names the exact
+// key; one without names the keys' common parent on that line, never a
+// guess between siblings.
+func typeProblems(msgs []string, lines map[string]int, vals map[[2]int]string) []Problem {
+	byLine := map[int][]string{}
+	for p, l := range lines {
+		byLine[l] = append(byLine[l], p)
 	}
 	var probs []Problem
 	for _, m := range msgs {
@@ -188,8 +211,67 @@ func typeProblems(msgs []string, lines map[string]int) []Problem {
 			continue
 		}
 		line, _ := strconv.Atoi(sm[1])
-		msg := strings.Replace(sm[2], "cannot unmarshal !!", "cannot read a YAML ", 1)
-		probs = append(probs, Problem{Line: line, Path: byLine[line], Msg: msg})
+		path := commonParent(byLine[line])
+		if sm[2] != "" {
+			col, _ := strconv.Atoi(sm[2])
+			if p, ok := vals[[2]int{line, col}]; ok {
+				path = p
+			}
+		}
+		probs = append(probs, Problem{Line: line, Path: path, Msg: plainTypeError(sm[3])})
 	}
 	return probs
+}
+
+// commonParent is the longest path that is, or is a parent of, every path in ps.
+func commonParent(ps []string) string {
+	if len(ps) == 0 {
+		return ""
+	}
+	common := ps[0]
+	for _, p := range ps[1:] {
+		for common != "" && p != common && !strings.HasPrefix(p, common+".") && !strings.HasPrefix(p, common+"[") {
+			i := strings.LastIndexAny(common, ".[")
+			if i < 0 {
+				i = 0
+			}
+			common = common[:i]
+		}
+	}
+	return common
+}
+
+// plainTypeError rewords yaml.v3's "cannot unmarshal !!seq `[a, b]` into
+// daemon.GaugeConfig" for people who write YAML, not Go.
+func plainTypeError(msg string) string {
+	sm := yamlUnmarh.FindStringSubmatch(msg)
+	if sm == nil {
+		return msg
+	}
+	got := map[string]string{"seq": "a list", "map": "a mapping", "str": "text", "int": "a number",
+		"float": "a number", "bool": "true or false", "null": "nothing"}[sm[1]]
+	if got == "" {
+		got = sm[1]
+	}
+	if sm[2] != "" && sm[1] != "seq" && sm[1] != "map" {
+		got += " (" + sm[2] + ")"
+	}
+	want := sm[3]
+	switch {
+	case strings.HasPrefix(want, "[]"):
+		want = "a list"
+	case strings.HasPrefix(want, "map["):
+		want = "a mapping of names to settings"
+	case strings.Contains(want, "daemon.") || strings.HasPrefix(want, "*"):
+		want = "a mapping of settings"
+	case strings.HasPrefix(want, "int") || strings.HasPrefix(want, "uint"):
+		want = "a whole number"
+	case strings.HasPrefix(want, "float"):
+		want = "a number"
+	case want == "string":
+		want = "a single value (text)"
+	case want == "bool":
+		want = "true or false"
+	}
+	return "got " + got + "; want " + want
 }
