@@ -98,7 +98,7 @@ alarms:
       settle: 30s
       duration: 5 min
       confirm: valve-closed
-      valve: {link: plc, coil: 12, closed_is: "on", travel: 20s}
+VALVE
 SCHEDULE
   - name: leak-watch
     gauge: ion
@@ -108,6 +108,11 @@ SCHEDULE
 // startValveDaemon runs a daemon whose hold tests close a valve through the
 // fake controller, at 1200 simulated seconds per wall second.
 func startValveDaemon(t *testing.T, p *plc, schedule string) (*Daemon, *sim.Clock, func()) {
+	return startIsolationDaemon(t, p, `      valve: {link: plc, coil: 12, closed_is: "on", travel: 20s}`, schedule)
+}
+
+// startIsolationDaemon is startValveDaemon with the hold test's valve line given.
+func startIsolationDaemon(t *testing.T, p *plc, valve, schedule string) (*Daemon, *sim.Clock, func()) {
 	t.Helper()
 	ln, err := net.Listen("tcp", "127.0.0.1:0")
 	if err != nil {
@@ -128,7 +133,7 @@ func startValveDaemon(t *testing.T, p *plc, schedule string) (*Daemon, *sim.Cloc
 	if err := os.WriteFile(tok, []byte("a-test-token-of-some-length\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	text := strings.NewReplacer("DIR", dir, "TOKEN", tok, "ADDR", addr, "SCHEDULE", schedule).Replace(valveConfig)
+	text := strings.NewReplacer("DIR", dir, "TOKEN", tok, "ADDR", addr, "SCHEDULE", schedule, "VALVE", valve).Replace(valveConfig)
 	cfg, err := ParseConfig("valve.yaml", []byte(text))
 	if err != nil {
 		t.Fatal(err)
@@ -258,5 +263,32 @@ func TestScheduledHoldTestAndShutdown(t *testing.T) {
 	if s := string(b); !strings.Contains(s, `"state": "failed"`) || !strings.Contains(s, "daemon was stopped") ||
 		!strings.Contains(s, `"restored": true`) {
 		t.Errorf("stored report after the stop:\n%s\nwant failed because the daemon stopped, coil restored", s)
+	}
+}
+
+// With manual isolation and a confirm switch, a test does not start while
+// the switch reads open, and says why; once someone closes the valve it does.
+func TestManualHoldTestNeedsTheSwitchClosed(t *testing.T) {
+	p := &plc{}
+	d, clock, stop := startIsolationDaemon(t, p, "", "")
+	defer stop()
+	<-clock.After(10 * time.Second) // the switch has been read (2 s interval)
+	if code := apiCall(t, d, "POST", "/api/v1/holdtests", tok, HoldTestStartJSON{Gauge: "ion"}, nil); code != http.StatusConflict {
+		t.Fatalf("start with the valve open: status %d, want 409", code)
+	}
+	if st, why := d.switchState("valve-closed"); st != switchOpen || why != "valve-closed reads open" {
+		t.Errorf("switch: %d %q, want open", st, why)
+	}
+	p.mu.Lock()
+	p.closed = true // someone closed the valve by hand
+	p.chamber.Isolate(true)
+	p.mu.Unlock()
+	<-clock.After(10 * time.Second)
+	var h HoldTestJSON
+	if code := apiCall(t, d, "POST", "/api/v1/holdtests", tok, HoldTestStartJSON{Gauge: "ion"}, &h); code != http.StatusCreated {
+		t.Fatalf("start with the valve closed: status %d", code)
+	}
+	if h.Valve != "manual" || h.State != holdSettling || len(p.log()) != 0 {
+		t.Errorf("manual test %+v, writes %v; want manual, settling, no coil written", h, p.log())
 	}
 }
