@@ -108,7 +108,7 @@ SCHEDULE
 // startValveDaemon runs a daemon whose hold tests close a valve through the
 // fake controller, at 1200 simulated seconds per wall second.
 func startValveDaemon(t *testing.T, p *plc, schedule string) (*Daemon, *sim.Clock, func()) {
-	return startIsolationDaemon(t, p, `      valve: {link: plc, coil: 12, closed_is: "on", travel: 20s}`, schedule)
+	return startIsolationDaemon(t, p, `      valve: {link: plc, coil: 12, closed_is: "on", travel: 2 min}`, schedule)
 }
 
 // startIsolationDaemon is startValveDaemon with the hold test's valve line given.
@@ -191,6 +191,7 @@ func TestHoldTestClosesTheValve(t *testing.T) {
 	p := &plc{}
 	d, clock, stop := startValveDaemon(t, p, "")
 	defer stop()
+	<-clock.After(10 * time.Second) // the switch has been read once
 	var h HoldTestJSON
 	if code := apiCall(t, d, "POST", "/api/v1/holdtests", tok, HoldTestStartJSON{Gauge: "ion"}, &h); code != http.StatusCreated {
 		t.Fatalf("start: status %d", code)
@@ -222,6 +223,7 @@ func TestHoldTestValveStuck(t *testing.T) {
 	p := &plc{stuck: true}
 	d, clock, stop := startValveDaemon(t, p, "")
 	defer stop()
+	<-clock.After(10 * time.Second) // the switch has been read (2 s interval), so the failure names what it reads
 	var h HoldTestJSON
 	if code := apiCall(t, d, "POST", "/api/v1/holdtests", tok, HoldTestStartJSON{Gauge: "ion"}, &h); code != http.StatusCreated {
 		t.Fatalf("start: status %d", code)
