@@ -136,13 +136,13 @@ func (c *Calibration) Apply(raw float64) (float64, error) {
 		if !ok {
 			p = v.PressureMax
 		}
-		return p, fmt.Errorf("raw %g outside the calibrated raw range %g…%g (pressure above %g Pa): %w",
+		return p, fmt.Errorf("raw %.6g outside the calibrated raw range %.6g…%.6g (pressure above %.4g Pa): %w",
 			raw, v.RawMin, v.RawMax, v.PressureMax, ErrAboveRange)
 	}
 	if !ok {
 		p = v.PressureMin
 	}
-	return p, fmt.Errorf("raw %g outside the calibrated raw range %g…%g (pressure below %g Pa): %w",
+	return p, fmt.Errorf("raw %.6g outside the calibrated raw range %.6g…%.6g (pressure below %.4g Pa): %w",
 		raw, v.RawMin, v.RawMax, v.PressureMin, ErrBelowRange)
 }
 

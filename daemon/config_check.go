@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"net"
 	"slices"
+	"strconv"
 	"strings"
 	"time"
 
@@ -66,8 +67,10 @@ func check(cfg *Config, prior []Problem) []Problem {
 	v.expect(cfg.Chamber.Volume > 0, "chamber.volume", "must be a positive volume such as 30 L, got %g m3", float64(cfg.Chamber.Volume))
 	if cfg.HTTP.Listen == "" {
 		cfg.HTTP.Listen = DefaultListen
-	} else if _, _, err := net.SplitHostPort(cfg.HTTP.Listen); err != nil {
+	} else if _, port, err := net.SplitHostPort(cfg.HTTP.Listen); err != nil {
 		v.problem("http.listen", "want host:port such as 127.0.0.1:9781, got %q", cfg.HTTP.Listen)
+	} else if n, err := strconv.Atoi(port); err != nil || n < 0 || n > 65535 {
+		v.problem("http.listen", "port %q is not a number from 0 to 65535", port)
 	}
 	v.expect(cfg.Store.Dir != "", "store.dir", "missing; say where samples are kept, e.g. dir: /var/lib/holdfast")
 	v.expect(cfg.Store.Retention == 0 || cfg.Store.Retention.D() >= 24*time.Hour, "store.retention",

@@ -292,3 +292,15 @@ func prefixed(prefix string, err error) []string {
 	}
 	return out
 }
+
+// HardwareLinks lists the links of cfg that reach real hardware (anything
+// but a simulator), sorted.
+func HardwareLinks(cfg *Config) []string {
+	var out []string
+	for _, name := range sortedKeys(cfg.Links) {
+		if l := cfg.Links[name]; l != nil && l.Simulator == nil {
+			out = append(out, name)
+		}
+	}
+	return out
+}

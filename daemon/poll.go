@@ -233,6 +233,9 @@ func (d *Daemon) pollFailed(log *slog.Logger, g *gauge, err error) {
 	d.met.pollErrors.WithLabelValues(g.name, reason).Inc()
 	g.mu.Lock()
 	g.misses++
+	if drivers.IsLinkDown(err) && g.misses < downAfter {
+		g.misses = downAfter // the link itself is gone: no point waiting for more misses
+	}
 	down := g.up && g.misses == downAfter || !g.seen && g.misses == downAfter
 	if down {
 		g.up = false

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"log/slog"
+	"strings"
 	"time"
 
 	"holdfast/calib"
@@ -34,7 +35,7 @@ type ProbeResult struct {
 func OpenProbe(cfg *Config, name string, log *slog.Logger, trace func(dir string, b []byte)) (*Probe, error) {
 	gc, ok := cfg.Gauges[name]
 	if !ok {
-		return nil, fmt.Errorf("no gauge %q in %s (known: %v)", name, cfg.File, sortedKeys(cfg.Gauges))
+		return nil, fmt.Errorf("no gauge %q in %s (known: %s)", name, cfg.File, strings.Join(sortedKeys(cfg.Gauges), ", "))
 	}
 	if len(gc.Combine) > 0 {
 		return nil, fmt.Errorf("gauge %s combines other gauges; probe one of them", name)

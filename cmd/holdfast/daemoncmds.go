@@ -13,7 +13,7 @@ import (
 )
 
 func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("run", "--config FILE [flags]", stderr)
+	fs := newFlags("run", "--config FILE [flags]\n\nRuns the daemon: polls every gauge of the config, stores every sample in\nstore.dir, serves /metrics and the API on http.listen, and raises alarms.\nCheck the config first with holdfast check. A monitoring aid, never a\nsafety interlock.", stderr)
 	file := fs.String("config", "", "config `file` (YAML)")
 	level := fs.String("log-level", "info", "log `level`: debug, info, warn or error")
 	if err := fs.Parse(args); err != nil {
@@ -39,7 +39,7 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 }
 
 func cmdCheck(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("check", "--config FILE [FILE...]", stderr)
+	fs := newFlags("check", "--config FILE [FILE...]\n\nReads each config file and prints every problem at once as\nFILE:LINE: path: what is wrong and what is expected, exiting 1; a valid\nfile gets a one-line summary. Secret files that cannot be read here are\nnoted, not refused (the daemon's machine must have them).", stderr)
 	file := fs.String("config", "", "config `file` to check; more files may follow as arguments")
 	if err := fs.Parse(args); err != nil {
 		return err
@@ -97,6 +97,10 @@ func newLogger(w io.Writer, level string) (*slog.Logger, error) {
 }
 
 func cmdVersion(ctx context.Context, args []string, stdout, stderr io.Writer) error {
+	fs := newFlags("version", "", stderr)
+	if err := fs.Parse(args); err != nil {
+		return err
+	}
 	fmt.Fprintf(stdout, "holdfast %s\n", buildVersion())
 	return nil
 }

@@ -8,6 +8,7 @@ import (
 	"io"
 	"os"
 	"slices"
+	"strings"
 	"syscall"
 	"time"
 
@@ -39,7 +40,7 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 		return errUsage("demo takes no arguments, got %q", fs.Args())
 	}
 	if !(*speed > 0) || *speed > 1e5 {
-		return errUsage("--speed must be between 0 and 100000 simulated seconds per wall second, got %g", *speed)
+		return errUsage("--speed must be above 0 and at most 100000 simulated seconds per wall second, got %g", *speed)
 	}
 	log, err := newLogger(stderr, *level)
 	if err != nil {
@@ -79,11 +80,22 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	return demoSummary(stdout, d, dir, clock.Now().Sub(start))
 }
 
+// demoScenario loads the built-in scenario, or file. The demo runs on the
+// simulator's fast clock, so a config that reaches real hardware (a
+// serial, TCP or Modbus link) is refused: use holdfast run for that.
 func demoScenario(file string) (*daemon.Config, error) {
-	if file != "" {
-		return daemon.LoadConfig(file)
+	if file == "" {
+		return daemon.ParseConfig("demo.yaml (built in)", demoConfig)
 	}
-	return daemon.ParseConfig("demo.yaml (built in)", demoConfig)
+	cfg, err := daemon.LoadConfig(file)
+	if err != nil {
+		return nil, err
+	}
+	if real := daemon.HardwareLinks(cfg); len(real) > 0 {
+		return nil, fmt.Errorf("%s: link %s reaches real hardware; the demo runs only simulated links (use holdfast run --config %s)",
+			file, strings.Join(real, ", "), file)
+	}
+	return cfg, nil
 }
 
 func demoDataDir(dir string, keep bool, stdout io.Writer) (string, func(), error) {

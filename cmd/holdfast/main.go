@@ -65,7 +65,11 @@ var commands = map[string]command{
 }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	if len(args) == 0 || args[0] == "help" || args[0] == "-h" || args[0] == "--help" {
+	if len(args) == 0 {
+		usage(stderr)
+		return exitError(2)
+	}
+	if args[0] == "help" || args[0] == "-h" || args[0] == "--help" {
 		usage(stdout)
 		return nil
 	}
@@ -85,7 +89,7 @@ func usage(w io.Writer) {
 	}
 	slices.Sort(names)
 	for _, n := range names {
-		fmt.Fprintf(w, "  %-9s %s\n", n, commands[n].summary)
+		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
 	}
 	fmt.Fprintln(w, "\nRun 'holdfast <command> --help' for a command's flags.")
 }

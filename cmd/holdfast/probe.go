@@ -82,7 +82,7 @@ func printBytes(w io.Writer, dir string, b []byte) {
 	if arrow == "" {
 		arrow = "  " + dir + " "
 	}
-	fmt.Fprintf(w, "%s%-40s  %q\n", arrow, hex.EncodeToString(b), printable(b))
+	fmt.Fprintf(w, "%s%-40s  \"%s\"\n", arrow, hex.EncodeToString(b), printable(b))
 }
 
 func printable(b []byte) string {
@@ -93,6 +93,9 @@ func printable(b []byte) string {
 			sb.WriteString(`\r`)
 		case c == '\n':
 			sb.WriteString(`\n`)
+		case c == '"' || c == '\\':
+			sb.WriteByte('\\')
+			sb.WriteByte(c)
 		case c >= 0x20 && c < 0x7f:
 			sb.WriteByte(c)
 		default:
