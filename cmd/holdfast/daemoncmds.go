@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"log"
 	"log/slog"
 	"runtime/debug"
 	"strings"
@@ -93,7 +94,12 @@ func newLogger(w io.Writer, level string) (*slog.Logger, error) {
 	if err := l.UnmarshalText([]byte(level)); err != nil {
 		return nil, fmt.Errorf("--log-level: want debug, info, warn or error, got %q", level)
 	}
-	return slog.New(slog.NewTextHandler(w, &slog.HandlerOptions{Level: l})), nil
+	h := slog.NewTextHandler(w, &slog.HandlerOptions{Level: l})
+	// A library that logs through the standard log package (the Modbus
+	// RTU transport does) goes through the same handler, as a warning.
+	log.SetFlags(0)
+	log.SetOutput(slog.NewLogLogger(h, slog.LevelWarn).Writer())
+	return slog.New(h), nil
 }
 
 func cmdVersion(ctx context.Context, args []string, stdout, stderr io.Writer) error {
