@@ -52,6 +52,7 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 			lastHealth = now
 			d.observeHealth(log, now)
 		}
+		d.retryDeliveries()
 		d.holdTests(ctx, log, st, now)
 		d.runSchedules(log, scheds, now)
 		select {
@@ -114,10 +115,27 @@ func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
 // restart, under the same dedupe key.
 func (d *Daemon) deliver(ev alerts.Event) {
 	if d.notify(ev) != nil {
-		return // not on disk: handed over again after a restart
+		// Not on disk (store writes failing): kept here and tried again on
+		// every alarm tick, and handed over again after a restart too.
+		d.retryMu.Lock()
+		d.retry = append(d.retry, ev)
+		d.retryMu.Unlock()
+		return
 	}
 	if err := d.alarms.Delivered(ev.DedupeKey); err != nil {
 		d.log.Warn("could not record an alarm notification as handed over; it may be handed over again after a restart",
 			"alarm", ev.Alarm, "key", ev.DedupeKey, "err", err)
+	}
+}
+
+// retryDeliveries hands over again the transitions whose queueing failed,
+// oldest first; those that fail again wait for the next tick.
+func (d *Daemon) retryDeliveries() {
+	d.retryMu.Lock()
+	evs := d.retry
+	d.retry = nil
+	d.retryMu.Unlock()
+	for _, ev := range evs {
+		d.deliver(ev)
 	}
 }

@@ -62,7 +62,9 @@ type Daemon struct {
 	token    string // bearer token for changes; empty refuses them
 	progress progress
 	ntfMu    sync.Mutex
-	ntf      *notifierSet               // nil when no notifiers are configured
+	ntf      *notifierSet // nil when no notifiers are configured
+	retryMu  sync.Mutex
+	retry    []alerts.Event             // transitions whose queueing for notification failed
 	trace    func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
 
 	flushMu  sync.Mutex
