@@ -97,7 +97,11 @@ func (v *checker) alarm(path string, a *AlarmConfig, seen map[string]int, i int)
 	}
 	k := a.kinds()
 	if len(k) != 1 {
-		v.problem(path, "want exactly one rule kind (%s), got %d: %s", strings.Join(alarmKinds, ", "), len(k), strings.Join(k, ", "))
+		got := "none"
+		if len(k) > 0 {
+			got = strings.Join(k, " and ")
+		}
+		v.problem(path, "want exactly one rule kind (%s), got %s", strings.Join(alarmKinds, ", "), got)
 		return
 	}
 	a.r.kind = k[0]

@@ -28,7 +28,7 @@ func cmdAlarms(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	reason := fs.String("reason", "", "why (shelve, suppress, out-of-service)")
 	dur := fs.String("for", "", "shelve for this long, e.g. 2h")
 	until := fs.String("until", "", "shelve until this RFC 3339 time")
-	name, err := parseWithName(fs, args, sub != "list" && sub != "history")
+	name, err := parseWithName(fs, args, sub != "list" && sub != "history", "alarm")
 	if err != nil {
 		return err
 	}
@@ -57,8 +57,9 @@ func cmdAlarms(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	return errUsage("unknown alarms command %q", sub)
 }
 
-// parseWithName parses flags that may come before or after one name.
-func parseWithName(fs *flag.FlagSet, args []string, need bool) (string, error) {
+// parseWithName parses flags that may come before or after one name; what
+// names what the name is, for the message when it is missing.
+func parseWithName(fs *flag.FlagSet, args []string, need bool, what string) (string, error) {
 	if err := fs.Parse(args); err != nil {
 		return "", err
 	}
@@ -74,7 +75,7 @@ func parseWithName(fs *flag.FlagSet, args []string, need bool) (string, error) {
 	switch {
 	case need && name == "":
 		fs.Usage()
-		return "", errUsage("name the alarm")
+		return "", errUsage("name the %s", what)
 	case len(rest) > 0:
 		fs.Usage()
 		return "", errUsage("unexpected arguments %q", rest)

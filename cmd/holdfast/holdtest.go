@@ -27,7 +27,7 @@ func cmdHoldTest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	dur := fs.String("duration", "", "start: record this long (default: the gauge's hold_test alarm, else 10m)")
 	svg := fs.String("svg", "", "show: also write the plot of the rise to this `file`")
 	asJSON := fs.Bool("json", false, "print JSON")
-	id, err := parseWithName(fs, args, sub == "show")
+	id, err := parseWithName(fs, args, sub == "show", "hold test (its ID, from holdfast holdtest list)")
 	if err != nil {
 		return err
 	}
