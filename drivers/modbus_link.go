@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"log/slog"
 	"sync"
-	"time"
 
 	"github.com/simonvetter/modbus"
 )
@@ -52,23 +51,14 @@ func (c ModbusConfig) Validate() error {
 // cancelled context is seen before the request and bounds the wait for the
 // next, so a read returns at most the link timeout after cancellation.
 type ModbusLink struct {
-	name, target string
-	conf         modbus.ClientConfiguration
-	backoff      Backoff
-	reopenAfter  int
-	rs485        bool
-	log          *slog.Logger
+	name        string
+	conf        modbus.ClientConfiguration
+	reopenAfter int
+	rs485       bool
 
-	mu       sync.Mutex
-	client   *modbus.ModbusClient
-	wait     time.Duration
-	nextTry  time.Time
-	silent   int
-	everDown bool
-	lastErr  error
-
-	statsMu sync.Mutex
-	stats   LinkStats
+	mu     sync.Mutex
+	client *modbus.ModbusClient
+	reconnector
 }
 
 // OpenModbus builds a ModbusLink. As with OpenSerial, only a configuration
@@ -116,19 +106,6 @@ func (l *ModbusLink) configureRTU(s SerialConfig) {
 
 // Name returns the link's config name.
 func (l *ModbusLink) Name() string { return l.name }
-
-// Stats returns a copy of the link's health figures.
-func (l *ModbusLink) Stats() LinkStats {
-	l.statsMu.Lock()
-	defer l.statsMu.Unlock()
-	return l.stats
-}
-
-func (l *ModbusLink) updateStats(f func(*LinkStats)) {
-	l.statsMu.Lock()
-	f(&l.stats)
-	l.statsMu.Unlock()
-}
 
 // Close closes the transport; a later request reopens it.
 func (l *ModbusLink) Close() error {

@@ -46,26 +46,17 @@ type LinkStats struct {
 // one at a time; the daemon's single goroutine per link is the expected user,
 // and Stats may be called from any goroutine.
 type StreamLink struct {
-	name, target string
-	open         func(ctx context.Context) (port, error)
-	timeout      time.Duration
-	backoff      Backoff
+	name    string
+	open    func(ctx context.Context) (port, error)
+	timeout time.Duration
 	// reopenAfter closes the link after this many timeouts in a row
 	// (0: never); a TCP peer that rebooted leaves a silent half-open socket.
 	reopenAfter int
-	log         *slog.Logger
 
-	mu       sync.Mutex // held for a whole exchange
-	p        port
-	dirty    bool // the last exchange may have left bytes behind
-	wait     time.Duration
-	nextTry  time.Time
-	silent   int   // timeouts in a row
-	everDown bool  // a reopen after this counts as a reconnect
-	lastErr  error // why the link is down
-
-	statsMu sync.Mutex
-	stats   LinkStats
+	mu    sync.Mutex // held for a whole exchange
+	p     port
+	dirty bool // the last exchange may have left bytes behind
+	reconnector
 }
 
 func newStreamLink(name, target string, timeout time.Duration, b Backoff, log *slog.Logger,
@@ -76,8 +67,8 @@ func newStreamLink(name, target string, timeout time.Duration, b Backoff, log *s
 	if timeout <= 0 {
 		timeout = DefaultTimeout
 	}
-	l := &StreamLink{name: name, target: target, open: open, timeout: timeout,
-		backoff: b.withDefaults(), log: log.With("link", name, "device", target)}
+	l := &StreamLink{name: name, open: open, timeout: timeout, reconnector: reconnector{
+		target: target, backoff: b.withDefaults(), log: log.With("link", name, "device", target)}}
 	l.mu.Lock()
 	defer l.mu.Unlock()
 	ctx, cancel := context.WithTimeout(context.Background(), l.timeout)
@@ -88,19 +79,6 @@ func newStreamLink(name, target string, timeout time.Duration, b Backoff, log *s
 
 // Name returns the link's config name.
 func (l *StreamLink) Name() string { return l.name }
-
-// Stats returns a copy of the link's health figures.
-func (l *StreamLink) Stats() LinkStats {
-	l.statsMu.Lock()
-	defer l.statsMu.Unlock()
-	return l.stats
-}
-
-func (l *StreamLink) updateStats(f func(*LinkStats)) {
-	l.statsMu.Lock()
-	f(&l.stats)
-	l.statsMu.Unlock()
-}
 
 // Close closes the device. A later Exchange reopens it.
 func (l *StreamLink) Close() error {
