@@ -1,6 +1,7 @@
 package calib
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"slices"
@@ -144,28 +145,18 @@ func byPressure(points []Point) []int {
 		idx[i] = i
 	}
 	slices.SortStableFunc(idx, func(a, b int) int {
-		if c := cmpFloat(points[a].Reference, points[b].Reference); c != 0 {
+		if c := cmp.Compare(points[a].Reference, points[b].Reference); c != 0 {
 			return c
 		}
-		return cmpFloat(points[a].Raw, points[b].Raw)
+		return cmp.Compare(points[a].Raw, points[b].Raw)
 	})
 	return idx
-}
-
-func cmpFloat(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
 }
 
 // direction is +1 when raw rises with pressure over the whole set, −1 when it falls, 0 when flat.
 func direction(points []Point) int {
 	idx := byPressure(points)
-	return cmpFloat(points[idx[len(idx)-1]].Raw, points[idx[0]].Raw)
+	return cmp.Compare(points[idx[len(idx)-1]].Raw, points[idx[0]].Raw)
 }
 
 // checkMonotone names every pair of pressure-neighbours whose raw steps
@@ -187,7 +178,7 @@ func checkMonotone(model string, points []Point) error {
 	var bad []string
 	for k := 1; k < len(idx); k++ {
 		a, b := points[idx[k-1]], points[idx[k]]
-		if cmpFloat(b.Raw, a.Raw) == -dir && b.Reference > a.Reference {
+		if cmp.Compare(b.Raw, a.Raw) == -dir && b.Reference > a.Reference {
 			bad = append(bad, fmt.Sprintf("points %s and %s: reference %g then %g Pa but raw %g then %g",
 				pointName(points, idx[k-1]), pointName(points, idx[k]), a.Reference, b.Reference, a.Raw, b.Raw))
 		}

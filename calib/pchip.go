@@ -1,6 +1,7 @@
 package calib
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
@@ -79,7 +80,7 @@ func knotsOf(points []Point) []Knot {
 	for i := range idx {
 		idx[i] = i
 	}
-	slices.SortStableFunc(idx, func(a, b int) int { return cmpFloat(points[a].Raw, points[b].Raw) })
+	slices.SortStableFunc(idx, func(a, b int) int { return cmp.Compare(points[a].Raw, points[b].Raw) })
 	var knots []Knot
 	for i := 0; i < len(idx); {
 		j, sum := i, 0.0

@@ -1,6 +1,7 @@
 package daemon
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"slices"
@@ -91,7 +92,7 @@ func (v *checker) combined(name string, g *GaugeConfig) {
 
 // coverage reports a pressure no member is trusted at.
 func (v *checker) coverage(path string, spans []PressureSpan) {
-	slices.SortFunc(spans, func(a, b PressureSpan) int { return cmpF(a.Low, b.Low) })
+	slices.SortFunc(spans, func(a, b PressureSpan) int { return cmp.Compare(a.Low, b.Low) })
 	reach := 0.0
 	for i, s := range spans {
 		if i > 0 && s.Low >= reach {
@@ -101,16 +102,6 @@ func (v *checker) coverage(path string, spans []PressureSpan) {
 		}
 		reach = math.Max(reach, s.High)
 	}
-}
-
-func cmpF(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
 }
 
 // or returns d, or def when d is 0.
