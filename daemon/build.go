@@ -42,6 +42,9 @@ func (d *Daemon) buildGauges() error {
 	if err := d.buildCombined(); err != nil {
 		errs = append(errs, err)
 	}
+	if err := d.wireAmbient(); err != nil {
+		errs = append(errs, err)
+	}
 	for _, name := range sortedKeys(byLink) {
 		l := byLink[name]
 		if err := linkFeeds(l); err != nil {

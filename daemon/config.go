@@ -110,6 +110,8 @@ type GaugeConfig struct {
 	Ranges MemberRanges `yaml:"ranges"`
 	// Calibration says whether stored calibrations apply: active (default) or none.
 	Calibration *GaugeCalibration `yaml:"calibration"`
+	// Ambient corrects the raw signal for the sensor's ambient temperature.
+	Ambient *AmbientConfig `yaml:"ambient"`
 
 	// Instruments on a serial or TCP link (driver: ascii, scpi or modbus).
 	Exchange   []*StepConfig      `yaml:"exchange"` // ascii: the steps of one read

@@ -241,6 +241,7 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 		v.expect(g.Digits >= 0 && g.Digits <= 15, path+".digits", "want 1 to 15 significant digits, got %d", g.Digits)
 	}
 	v.calibration(name, g)
+	v.ambient(path, g)
 }
 
 func gaugeDim(kind string) calib.Dimension {

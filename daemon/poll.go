@@ -38,8 +38,9 @@ type gauge struct {
 	dim  calib.Dimension
 	unit calib.Unit
 	drv  drivers.Driver
-	fed  []*gauge   // gauges whose values come in this gauge's exchange (from:)
-	live *gaugeLive // calibration and combined-gauge state; see calib.go
+	fed  []*gauge     // gauges whose values come in this gauge's exchange (from:)
+	amb  *ambientComp // ambient-temperature compensation of the raw signal; nil for none
+	live *gaugeLive   // calibration and combined-gauge state; see calib.go
 
 	mu       sync.Mutex
 	transfer calib.Transfer // the active calibration, or the instrument's own curve
@@ -189,7 +190,11 @@ func (d *Daemon) sample(g *gauge, r drivers.Reading) (calib.Sample, uint32) {
 	}
 	switch r.Status {
 	case drivers.StatusOK:
-		v, err := transfer.Apply(r.Raw)
+		raw := r.Raw
+		if g.amb != nil {
+			raw, _ = g.amb.compensate(d.log, g.name, raw, s.At)
+		}
+		v, err := transfer.Apply(raw)
 		s.Quality = calib.QualityOf(err)
 		if err == nil {
 			s.Value = v

@@ -1,0 +1,96 @@
+package daemon
+
+import (
+	"fmt"
+	"log/slog"
+	"strings"
+	"time"
+
+	"holdfast/calib"
+)
+
+// AmbientConfig corrects a gauge's raw signal for its ambient temperature,
+// read from a temperature gauge, before the calibration applies. The raw
+// value stored is the instrument's, uncorrected.
+type AmbientConfig struct {
+	Gauge         string      `yaml:"gauge"`           // a temperature gauge near the sensor
+	Reference     Temperature `yaml:"reference"`       // the ambient the calibration was made at
+	ZeroPerKelvin float64     `yaml:"zero_per_kelvin"` // raw units per K
+	SpanPerKelvin float64     `yaml:"span_per_kelvin"` // fraction per K
+	MaxAge        Duration    `yaml:"max_age"`         // an older ambient reading is not used; default 1 min
+}
+
+// ambientComp is a gauge's compensation, wired to its temperature gauge.
+type ambientComp struct {
+	a      calib.Ambient
+	from   *gauge
+	maxAge time.Duration
+
+	missing bool // last reading had no usable ambient (logged on change)
+}
+
+func (v *checker) ambient(path string, g *GaugeConfig) {
+	a := g.Ambient
+	if a == nil {
+		return
+	}
+	path += ".ambient"
+	src, ok := v.cfg.Gauges[a.Gauge]
+	switch {
+	case !ok || src == nil:
+		v.problem(path+".gauge", "unknown gauge %q (known temperature gauges: %s)", a.Gauge,
+			strings.Join(v.gaugesWhere(func(g *GaugeConfig) bool { return g.Kind == "temperature" }), ", "))
+	case src.Kind != "temperature":
+		v.problem(path+".gauge", "%q measures %s; want a temperature gauge", a.Gauge, src.Kind)
+	}
+	v.expect(g.Kind == "pressure", path, "only pressure gauges take an ambient compensation")
+	if a.MaxAge == 0 {
+		a.MaxAge = Duration(time.Minute)
+	}
+	v.driverErrs(path, calib.Ambient{Reference: float64(a.Reference), Zero: a.ZeroPerKelvin, Span: a.SpanPerKelvin}.Validate())
+}
+
+// wireAmbient connects every gauge's compensation to its temperature gauge.
+func (d *Daemon) wireAmbient() error {
+	byName := map[string]*gauge{}
+	for _, g := range d.gauges {
+		byName[g.name] = g
+	}
+	for _, g := range d.gauges {
+		a := g.cfg.Ambient
+		if a == nil {
+			continue
+		}
+		src := byName[a.Gauge]
+		if src == nil {
+			return fmt.Errorf("gauge %s: ambient.gauge %q was not built", g.name, a.Gauge)
+		}
+		g.amb = &ambientComp{a: calib.Ambient{Reference: float64(a.Reference), Zero: a.ZeroPerKelvin, Span: a.SpanPerKelvin},
+			from: src, maxAge: a.MaxAge.D()}
+	}
+	return nil
+}
+
+// compensate corrects raw for the ambient temperature at time at. Without a
+// recent valid ambient reading it returns raw unchanged, says so once, and
+// reports false.
+func (c *ambientComp) compensate(log *slog.Logger, gauge string, raw float64, at time.Time) (float64, bool) {
+	v := c.from.view(at)
+	fresh := v.seen && v.last.Quality == calib.QualityOK && at.Sub(v.last.At) <= c.maxAge
+	var out float64
+	var err error
+	if fresh {
+		out, err = c.a.Apply(raw, v.last.Value)
+	}
+	ok := fresh && err == nil
+	if !ok && !c.missing {
+		log.Warn("ambient compensation not applied: no recent valid ambient temperature", "gauge", gauge, "ambient_gauge", c.from.name, "err", err)
+	} else if ok && c.missing {
+		log.Info("ambient compensation applied again", "gauge", gauge)
+	}
+	c.missing = !ok
+	if !ok {
+		return raw, false
+	}
+	return out, true
+}

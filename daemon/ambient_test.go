@@ -1,0 +1,64 @@
+package daemon
+
+import (
+	"math"
+	"strings"
+	"testing"
+	"time"
+
+	"holdfast/calib"
+	"holdfast/drivers"
+)
+
+// A gauge with ambient compensation corrects its raw signal by its
+// temperature gauge's last reading before the transfer applies (the
+// first-order form of calib.Ambient, common practice), and falls back to
+// the raw signal when that reading is stale.
+func TestAmbientCompensationInPipeline(t *testing.T) {
+	now := time.Now()
+	room := fakeGauge("room", time.Second, nil)
+	room.cfg.Kind = "temperature"
+	room.seen, room.up, room.last = true, true, calib.Sample{At: now, Value: 32, Quality: calib.QualityOK}
+	p := fakeGauge("pirani", time.Second, nil)
+	p.transfer = calib.HeatLoss{S0: 2, A: 0.5, Pt: 100} // REFERENCES.md §5b example sensor
+	d := testDaemon(t, room, p)
+	p.amb = &ambientComp{a: calib.Ambient{Reference: 22, Zero: 0.01, Span: 0.002}, from: room, maxAge: time.Minute}
+
+	r := drivers.Reading{Raw: 6.6, Status: drivers.StatusOK, At: now}
+	s, _ := d.sample(p, r)
+	corrected := (6.6 - 0.01*10) / (1 + 0.002*10)
+	want, _ := calib.HeatLoss{S0: 2, A: 0.5, Pt: 100}.Apply(corrected)
+	if math.Abs(s.Value-want) > 1e-9*want || s.Raw != 6.6 {
+		t.Errorf("compensated: value %g raw %g; want value %g from corrected raw %g, raw kept 6.6", s.Value, s.Raw, want, corrected)
+	}
+	room.last.At = now.Add(-2 * time.Minute) // stale
+	s, _ = d.sample(p, r)
+	plain, _ := calib.HeatLoss{S0: 2, A: 0.5, Pt: 100}.Apply(6.6)
+	if math.Abs(s.Value-plain) > 1e-9*plain {
+		t.Errorf("stale ambient: value %g, want the uncompensated %g", s.Value, plain)
+	}
+}
+
+func TestAmbientConfigChecks(t *testing.T) {
+	_, err := ParseConfig("amb.yaml", []byte(`
+chamber: {name: amb, volume: 10 L}
+store: {dir: /tmp/x}
+links: {s: {simulator: {rough_pump: {speed: 2 m3/h}}}}
+gauges:
+  p1:
+    link: s
+    driver: sim
+    instrument: pirani
+    kind: pressure
+    ambient: {gauge: p2, reference: 22 C, zero_per_kelvin: 0.01, span_per_kelvin: 0.5}
+  p2: {link: s, driver: sim, instrument: cdg, full_scale: 1000 Pa, kind: pressure}
+`))
+	if err == nil {
+		t.Fatal("want problems")
+	}
+	for _, want := range []string{`amb.yaml:11: gauges.p1.ambient.gauge: "p2" measures pressure`, `gauges.p1.ambient.span_per_kelvin:`} {
+		if !strings.Contains(err.Error(), want) {
+			t.Errorf("problems lack %q:\n%v", want, err)
+		}
+	}
+}
