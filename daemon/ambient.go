@@ -3,10 +3,12 @@ package daemon
 import (
 	"fmt"
 	"log/slog"
+	"slices"
 	"strings"
 	"time"
 
 	"holdfast/calib"
+	"holdfast/daemon/store"
 )
 
 // AmbientConfig corrects a gauge's raw signal for its ambient temperature,
@@ -93,4 +95,54 @@ func (c *ambientComp) compensate(log *slog.Logger, gauge string, raw float64, at
 		return raw, false
 	}
 	return out, true
+}
+
+// ambientTransfers returns, for reprocessing g's samples in [from, to), the
+// transfer to apply at each time: t after the same ambient compensation the
+// live pipeline applied, from the ambient gauge's stored samples (the
+// latest valid one no older than max_age), or t alone where there is none.
+func (d *Daemon) ambientTransfers(g *gauge, t calib.Transfer, from, to time.Time) (func(time.Time) calib.Transfer, error) {
+	if g.amb == nil {
+		return func(time.Time) calib.Transfer { return t }, nil
+	}
+	type reading struct {
+		at time.Time
+		c  float64
+	}
+	var temps []reading
+	err := d.store.Range(g.amb.from.name, from.Add(-g.amb.maxAge), to, func(p store.Point) bool {
+		if calib.Quality(p.Quality) == calib.QualityOK {
+			temps = append(temps, reading{p.At, p.Value})
+		}
+		return true
+	})
+	if err != nil {
+		return nil, fmt.Errorf("ambient gauge %s: %w", g.amb.from.name, err)
+	}
+	return func(at time.Time) calib.Transfer {
+		i, _ := slices.BinarySearchFunc(temps, at, func(r reading, at time.Time) int { return r.at.Compare(at) })
+		if i < len(temps) && temps[i].at.Equal(at) {
+			i++
+		}
+		if i == 0 || at.Sub(temps[i-1].at) > g.amb.maxAge {
+			return t
+		}
+		return compensated{t: t, a: g.amb.a, c: temps[i-1].c}
+	}, nil
+}
+
+// compensated is a transfer applied after an ambient correction at a fixed
+// ambient temperature c.
+type compensated struct {
+	t calib.Transfer
+	a calib.Ambient
+	c float64
+}
+
+func (x compensated) Apply(raw float64) (float64, error) {
+	r, err := x.a.Apply(raw, x.c)
+	if err != nil {
+		return x.t.Apply(raw)
+	}
+	return x.t.Apply(r)
 }

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"holdfast/calib"
+	"holdfast/daemon/store"
 	"holdfast/drivers"
 )
 
@@ -59,6 +60,39 @@ gauges:
 	for _, want := range []string{`amb.yaml:11: gauges.p1.ambient.gauge: "p2" measures pressure`, `gauges.p1.ambient.span_per_kelvin:`} {
 		if !strings.Contains(err.Error(), want) {
 			t.Errorf("problems lack %q:\n%v", want, err)
+		}
+	}
+}
+
+// Reprocessing applies the same compensation as the live pipeline, from the
+// ambient gauge's stored samples at each sample's time.
+func TestAmbientTransfersForReprocess(t *testing.T) {
+	room := fakeGauge("room", time.Second, nil)
+	p := fakeGauge("p", time.Second, nil)
+	d := testDaemon(t, room, p)
+	p.amb = &ambientComp{a: calib.Ambient{Reference: 20, Zero: 0.1}, from: room, maxAge: time.Minute}
+	t0 := time.Date(2026, 5, 1, 0, 0, 0, 0, time.UTC)
+	d.store.Append("room", store.Point{At: t0, Value: 30, Quality: 0})
+	d.store.Append("room", store.Point{At: t0.Add(10 * time.Minute), Value: 25, Quality: 0})
+	if err := d.store.Flush(); err != nil {
+		t.Fatal(err)
+	}
+	tAt, err := d.ambientTransfers(p, calib.Identity{}, t0, t0.Add(time.Hour))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		at   time.Duration
+		want float64
+	}{
+		{0, 10 - 0.1*10},                // ambient 30 °C, 10 K above the reference
+		{30 * time.Second, 10 - 0.1*10}, // the same reading, 30 s old
+		{2 * time.Minute, 10},           // older than max_age: uncorrected
+		{10 * time.Minute, 10 - 0.1*5},  // the second reading, 25 °C
+	} {
+		got, err := tAt(t0.Add(c.at)).Apply(10)
+		if err != nil || math.Abs(got-c.want) > 1e-12 {
+			t.Errorf("at +%s: %v, %v; want %v", c.at, got, err, c.want)
 		}
 	}
 }

@@ -60,10 +60,14 @@ func (d *Daemon) reprocess(req reprocessRequest) (calibstore.Audit, error) {
 		return calibstore.Audit{}, fmt.Errorf("span %s … %s: from must be before to (and to not after now)", req.From.Format(time.RFC3339), req.To.Format(time.RFC3339))
 	}
 	a := calibstore.Audit{At: now, Action: "reprocess", Gauge: g.name, Calibration: req.Calibration, From: req.From, To: req.To, Status: "started", Note: req.Note}
+	tAt, err := d.ambientTransfers(g, t, req.From, req.To)
+	if err != nil {
+		return calibstore.Audit{}, fmt.Errorf("reprocess %s: %w", g.name, err)
+	}
 	err = d.store.Range(g.name, req.From, req.To, func(p store.Point) bool {
 		a.Samples++
 		a.Previous = calibstore.AddRuns(a.Previous, p.At, p.Calibration)
-		q, done := recompute(p, t, req.Calibration, req.RecheckRange)
+		q, done := recompute(p, tAt(p.At), req.Calibration, req.RecheckRange)
 		if !done {
 			a.KeptFlags++
 		} else if q.Quality != p.Quality || q.Calibration != p.Calibration || math.Float64bits(q.Value) != math.Float64bits(p.Value) {
@@ -79,7 +83,7 @@ func (d *Daemon) reprocess(req reprocessRequest) (calibstore.Audit, error) {
 		return a, err
 	}
 	n, rerr := d.store.Rewrite(g.name, req.From, req.To, func(p store.Point) store.Point {
-		q, _ := recompute(p, t, req.Calibration, req.RecheckRange)
+		q, _ := recompute(p, tAt(p.At), req.Calibration, req.RecheckRange)
 		return q
 	})
 	a.Status = "done"
