@@ -16,16 +16,18 @@ import (
 	"go.bug.st/serial/enumerator"
 )
 
-const portsSynopsis = `[--json] [--by-id-only]
+const portsSynopsis = `[--json] [--all | --by-id-only]
 
 Lists serial ports: the device, its USB vendor:product id and serial number
 when it is a USB adapter, and its stable name under /dev/serial/by-id, which
 survives replugging and is the name to put in a link's config.
 
-Caution: listing all ports opens every built-in ttyS* port to see whether it
-exists, which resets a port in use to 9600 baud raw mode. Do not run it while
-holdfast or another program is talking over a built-in port; --by-id-only
-lists the stable names alone and opens nothing.`
+By default it reads USB adapters from sysfs and opens nothing, so it is
+safe while holdfast runs. --all also lists built-in ttyS* ports.
+Caution: --all opens every built-in port to see whether it exists, which
+resets a port in use to 9600 baud raw mode. Do not use --all while holdfast
+or another program is talking over a built-in port. --by-id-only lists the
+stable names alone.`
 
 // byIDDir is where udev puts the stable names of USB serial ports.
 const byIDDir = "/dev/serial/by-id"
@@ -42,6 +44,7 @@ func cmdPorts(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	flags := newFlags("ports", portsSynopsis, stderr)
 	asJSON := flags.Bool("json", false, "print the list as JSON")
 	byIDOnly := flags.Bool("by-id-only", false, "list only the stable /dev/serial/by-id names; opens no port")
+	all := flags.Bool("all", false, "also list built-in ttyS* ports (opens each of them: see the caution above)")
 	if err := flags.Parse(args); err != nil {
 		return err
 	}
@@ -49,8 +52,16 @@ func cmdPorts(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 		flags.Usage()
 		return errUsage("ports takes no arguments, got %q", flags.Args())
 	}
-	enumerate := enumerator.GetDetailedPortsList
-	if *byIDOnly {
+	if *all && *byIDOnly {
+		return errUsage("give --all or --by-id-only, not both")
+	}
+	enumerate := func(...func(vid, pid string) bool) ([]*enumerator.PortDetails, error) {
+		return sysfsUSBPorts("/sys/class/tty")
+	}
+	switch {
+	case *all:
+		enumerate = enumerator.GetDetailedPortsList
+	case *byIDOnly:
 		enumerate = nil
 	}
 	ports, err := listPorts(enumerate, byIDDir)

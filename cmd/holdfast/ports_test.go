@@ -63,3 +63,33 @@ func TestPortsHelpWarnsAboutProbing(t *testing.T) {
 		t.Errorf("help = %q (%v), want the caution about opening ttyS ports", stderr.String(), err)
 	}
 }
+
+// The default listing reads USB adapters from a sysfs tree and opens
+// nothing; built-in ttyS ports are left out.
+func TestSysfsUSBPorts(t *testing.T) {
+	root := t.TempDir()
+	usb := filepath.Join(root, "devices", "usb1", "1-2")
+	iface := filepath.Join(usb, "1-2:1.0", "ttyUSB0")
+	for dir, files := range map[string]map[string]string{
+		usb:   {"idVendor": "abcd\n", "idProduct": "1234\n", "serial": "BENCH42\n"},
+		iface: {},
+	} {
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			t.Fatal(err)
+		}
+		for f, v := range files {
+			os.WriteFile(filepath.Join(dir, f), []byte(v), 0o644)
+		}
+	}
+	class := filepath.Join(root, "class")
+	os.MkdirAll(filepath.Join(class, "ttyUSB0"), 0o755)
+	os.Symlink(iface, filepath.Join(class, "ttyUSB0", "device"))
+	os.MkdirAll(filepath.Join(class, "ttyS0"), 0o755)
+	ports, err := sysfsUSBPorts(class)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(ports) != 1 || ports[0].Name != "/dev/ttyUSB0" || ports[0].VID != "abcd" || ports[0].PID != "1234" || ports[0].SerialNumber != "BENCH42" {
+		t.Errorf("got %+v; want one ttyUSB0 with abcd:1234 serial BENCH42", ports)
+	}
+}
