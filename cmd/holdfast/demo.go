@@ -2,11 +2,14 @@ package main
 
 import (
 	"context"
+	"crypto/rand"
 	_ "embed"
+	"encoding/base64"
 	"errors"
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"slices"
 	"strings"
 	"syscall"
@@ -56,6 +59,11 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	}
 	defer cleanup()
 	cfg.Store.Dir, cfg.HTTP.Listen = dir, *listen
+	if cfg.HTTP.TokenFile == "" {
+		if cfg.HTTP.TokenFile, err = demoToken(dir); err != nil {
+			return err
+		}
+	}
 
 	start := time.Now()
 	clock := sim.NewClock(start, *speed)
@@ -69,6 +77,7 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	fmt.Fprintf(stdout, "holdfast demo: simulated chamber %q (%.4g L), %g simulated seconds per wall second\n",
 		cfg.Chamber.Name, float64(cfg.Chamber.Volume)*1000, *speed)
 	fmt.Fprintf(stdout, "metrics at http://%s/metrics, data in %s; Ctrl-C stops\n", d.Addr(), dir)
+	fmt.Fprintf(stdout, "token for changes (alarms ack, calib point, holdtest start): --token-file %s\n", cfg.HTTP.TokenFile)
 	if *dur > 0 {
 		var cancel context.CancelFunc
 		ctx, cancel = context.WithTimeout(ctx, *dur)
@@ -158,4 +167,19 @@ func demoSummary(w io.Writer, d *daemon.Daemon, dir string, simulated time.Durat
 		fmt.Fprintln(w, "  no alarms raised")
 	}
 	return nil
+}
+
+// demoToken writes a fresh random bearer token into the demo's data
+// directory, so the API's changes (ack an alarm, start a hold test) can be
+// tried with --token-file.
+func demoToken(dir string) (string, error) {
+	b := make([]byte, 24)
+	if _, err := rand.Read(b); err != nil {
+		return "", fmt.Errorf("demo token: %w", err)
+	}
+	path := filepath.Join(dir, "token")
+	if err := os.WriteFile(path, []byte(base64.RawURLEncoding.EncodeToString(b)+"\n"), 0o600); err != nil {
+		return "", fmt.Errorf("demo token: %w", err)
+	}
+	return path, nil
 }
