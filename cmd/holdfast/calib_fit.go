@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 	"strings"
 
@@ -95,7 +96,7 @@ func writeReport(w io.Writer, c *calib.Calibration, unit calib.Unit) {
 	for i, p := range c.Points {
 		fitted, _ := c.Apply(p.Raw)
 		fmt.Fprintf(w, "%5d %5d %12.6g %14s %14s %8.3f%%\n", i+1, p.Line, p.Raw,
-			strconv.FormatFloat(unit.FromSI(p.Reference), 'g', 6, 64), strconv.FormatFloat(unit.FromSI(fitted), 'g', 6, 64), 100*f.Residuals[i])
+			strconv.FormatFloat(unit.FromSI(p.Reference), 'g', 6, 64), strconv.FormatFloat(unit.FromSI(fitted), 'g', 6, 64), percent3(f.Residuals[i]))
 	}
 	for _, n := range f.Notes {
 		fmt.Fprintf(w, "note: %s\n", n)
@@ -103,4 +104,14 @@ func writeReport(w io.Writer, c *calib.Calibration, unit calib.Unit) {
 	if f.Max > 0.1 {
 		fmt.Fprintf(w, "note: a point is off the curve by %.0f %%: check it, or try another model\n", 100*f.Max)
 	}
+}
+
+// percent3 is x in per cent rounded to three decimals, with a residual that
+// rounds to zero shown as 0.000 rather than -0.000.
+func percent3(x float64) float64 {
+	r := math.Round(x*1e5) / 1e3
+	if r == 0 {
+		return 0
+	}
+	return r
 }
