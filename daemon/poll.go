@@ -224,7 +224,11 @@ func (d *Daemon) record(log *slog.Logger, g *gauge, s calib.Sample) {
 		if s.Quality == calib.QualityOK {
 			msg = "reads " + calib.Format(s.Value, g.unit)
 		}
-		log.Info("gauge up", "gauge", g.name, "value", s.Value, "quality", s.Quality.String())
+		attrs := []any{"gauge", g.name, "quality", s.Quality.String()}
+		if s.Quality == calib.QualityOK {
+			attrs = append(attrs, "value", calib.Format(s.Value, g.unit))
+		}
+		log.Info("gauge up", attrs...)
 		d.emit(Event{At: s.At, Kind: "gauge-up", Gauge: g.name, Message: msg})
 	case !up && (wasUp || !wasSeen):
 		log.Warn("gauge reports a sensor fault", "gauge", g.name)
