@@ -75,6 +75,9 @@ func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, schedule
 	if g == nil || g.Kind != "pressure" {
 		return HoldTestJSON{}, fmt.Errorf("gauge %q: want a configured pressure gauge", gauge)
 	}
+	if p := d.alarmsDown.Load(); p != nil {
+		return HoldTestJSON{}, fmt.Errorf("alarms are not running (their stored state did not load: %v); no hold test can be judged", *p)
+	}
 	if id := d.alarms.RunningHoldTest(); id != "" {
 		return HoldTestJSON{}, fmt.Errorf("hold test %s is still running; wait for it to finish", id)
 	}

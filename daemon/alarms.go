@@ -32,7 +32,9 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 	}
 	if err != nil {
 		// Without its stored state the engine would re-send or forget
-		// alarms; it keeps deciding nothing and says so.
+		// alarms; it keeps deciding nothing and says so: in the log, on
+		// /healthz (503) and in holdfast_alarms_up, and hold tests are refused.
+		d.alarmsDown.Store(&err)
 		log.Error("alarm state not loaded; alarms are not evaluated", "err", err)
 		<-ctx.Done()
 		return

@@ -11,6 +11,7 @@ import (
 	"path/filepath"
 	"slices"
 	"sync"
+	"sync/atomic"
 	"time"
 
 	"holdfast/alerts"
@@ -49,23 +50,24 @@ type Options struct {
 
 // A Daemon polls every gauge of one config and serves what it reads.
 type Daemon struct {
-	cfg      *Config
-	log      *slog.Logger
-	clock    Clock
-	emit     func(Event)
-	store    *store.DB
-	links    []*link
-	gauges   []*gauge // sorted by name
-	alarms   *alerts.Engine
-	met      *metrics
-	ln       net.Listener
-	token    string // bearer token for changes; empty refuses them
-	progress progress
-	ntfMu    sync.Mutex
-	ntf      *notifierSet // nil when no notifiers are configured
-	retryMu  sync.Mutex
-	retry    []alerts.Event             // transitions whose queueing for notification failed
-	trace    func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
+	cfg        *Config
+	log        *slog.Logger
+	clock      Clock
+	emit       func(Event)
+	store      *store.DB
+	links      []*link
+	gauges     []*gauge // sorted by name
+	alarms     *alerts.Engine
+	met        *metrics
+	ln         net.Listener
+	token      string // bearer token for changes; empty refuses them
+	progress   progress
+	ntfMu      sync.Mutex
+	ntf        *notifierSet          // nil when no notifiers are configured
+	alarmsDown atomic.Pointer[error] // set when the alarm state could not be loaded
+	retryMu    sync.Mutex
+	retry      []alerts.Event             // transitions whose queueing for notification failed
+	trace      func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
 
 	flushMu  sync.Mutex
 	flushErr error

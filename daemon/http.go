@@ -38,6 +38,10 @@ func (d *Daemon) healthz(w http.ResponseWriter, _ *http.Request) {
 		http.Error(w, "store writes failing: "+err.Error(), http.StatusServiceUnavailable)
 		return
 	}
+	if p := d.alarmsDown.Load(); p != nil {
+		http.Error(w, "alarms not evaluated: their stored state did not load: "+(*p).Error(), http.StatusServiceUnavailable)
+		return
+	}
 	fmt.Fprintln(w, "ok")
 }
 

@@ -76,6 +76,9 @@ var (
 	descLinkTimeouts = prometheus.NewDesc("holdfast_link_timeouts_total",
 		"Exchanges on the link that got no complete reply in time.",
 		[]string{"link"}, nil)
+	descAlarmsUp = prometheus.NewDesc("holdfast_alarms_up",
+		"1 while the alarm engine evaluates alarms, 0 when its stored state could not be loaded (no alarm will be raised).",
+		nil, nil)
 	descStoreErr = prometheus.NewDesc("holdfast_store_flush_failing",
 		"1 while writes to the sample store fail (samples are held in memory and retried), else 0.",
 		nil, nil)
@@ -87,7 +90,7 @@ var (
 type liveCollector struct{ d *Daemon }
 
 func (c *liveCollector) Describe(ch chan<- *prometheus.Desc) {
-	for _, d := range append([]*prometheus.Desc{descPressure, descTemperature, descUp, descQuality, descLast, descLinkUp, descLinkReconnects, descLinkTimeouts, descStoreErr}, alarmDescs...) {
+	for _, d := range append([]*prometheus.Desc{descPressure, descTemperature, descUp, descQuality, descLast, descLinkUp, descLinkReconnects, descLinkTimeouts, descAlarmsUp, descStoreErr}, alarmDescs...) {
 		ch <- d
 	}
 }
@@ -123,6 +126,7 @@ func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
 		ch <- prometheus.MustNewConstMetric(descLinkReconnects, prometheus.CounterValue, float64(st.Reconnects), l.name)
 		ch <- prometheus.MustNewConstMetric(descLinkTimeouts, prometheus.CounterValue, float64(st.Timeouts), l.name)
 	}
+	ch <- prometheus.MustNewConstMetric(descAlarmsUp, prometheus.GaugeValue, b2f(c.d.alarmsDown.Load() == nil))
 	c.d.flushMu.Lock()
 	failing := c.d.flushErr != nil
 	c.d.flushMu.Unlock()

@@ -1,6 +1,7 @@
 package daemon
 
 import (
+	"errors"
 	"math"
 	"net/http/httptest"
 	"strings"
@@ -71,5 +72,26 @@ func TestAPIGaugesWithNaNRaw(t *testing.T) {
 	body := rec.Body.String()
 	if rec.Code != 200 || !strings.Contains(body, `"quality": "off"`) || strings.Contains(body, `"raw"`) {
 		t.Errorf("status %d, body %q; want 200 with quality off and no raw", rec.Code, body)
+	}
+}
+
+// When the alarm state cannot be loaded, nothing is raised: /healthz says
+// so (503), holdfast_alarms_up is 0, and hold tests are refused.
+func TestAlarmsDownIsVisible(t *testing.T) {
+	d := testDaemon(t, fakeGauge("p", time.Second, nil))
+	d.cfg.Gauges = map[string]*GaugeConfig{"p": {Kind: "pressure"}}
+	err := errors.New("alarm bucket unreadable")
+	d.alarmsDown.Store(&err)
+	rec := httptest.NewRecorder()
+	d.healthz(rec, httptest.NewRequest("GET", "/healthz", nil))
+	if rec.Code != 503 || !strings.Contains(rec.Body.String(), "alarm bucket unreadable") {
+		t.Errorf("healthz: %d %q; want 503 naming the cause", rec.Code, rec.Body.String())
+	}
+	want := "# HELP holdfast_alarms_up 1 while the alarm engine evaluates alarms, 0 when its stored state could not be loaded (no alarm will be raised).\n# TYPE holdfast_alarms_up gauge\nholdfast_alarms_up 0\n"
+	if err := testutil.GatherAndCompare(d.met.reg, strings.NewReader(want), "holdfast_alarms_up"); err != nil {
+		t.Error(err)
+	}
+	if _, err := d.beginHoldTest("p", time.Minute, time.Minute, false); err == nil || !strings.Contains(err.Error(), "alarms are not running") {
+		t.Errorf("hold test while alarms are down: err %v", err)
 	}
 }
