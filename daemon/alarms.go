@@ -114,30 +114,38 @@ func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
 
 // deliver hands a stored transition to the notifiers and records that it
 // was handed over; a crash in between hands it over again after the
-// restart, under the same dedupe key.
+// restart, under the same dedupe key. Deliveries are serialised and keep
+// their order: while earlier ones wait to be retried, later ones queue
+// behind them, so no receiver hears "cleared" before "raised".
 func (d *Daemon) deliver(ev alerts.Event) {
-	if d.notify(ev) != nil {
-		// Not on disk (store writes failing): kept here and tried again on
-		// every alarm tick, and handed over again after a restart too.
-		d.retryMu.Lock()
-		d.retry = append(d.retry, ev)
-		d.retryMu.Unlock()
-		return
-	}
-	if err := d.alarms.Delivered(ev.DedupeKey); err != nil {
-		d.log.Warn("could not record an alarm notification as handed over; it may be handed over again after a restart",
-			"alarm", ev.Alarm, "key", ev.DedupeKey, "err", err)
-	}
+	d.retryMu.Lock()
+	defer d.retryMu.Unlock()
+	d.retry = append(d.retry, ev)
+	d.flushDeliveries()
 }
 
-// retryDeliveries hands over again the transitions whose queueing failed,
-// oldest first; those that fail again wait for the next tick.
+// retryDeliveries hands over again the transitions whose queueing failed;
+// the alarm loop calls it on every tick.
 func (d *Daemon) retryDeliveries() {
 	d.retryMu.Lock()
-	evs := d.retry
-	d.retry = nil
-	d.retryMu.Unlock()
-	for _, ev := range evs {
-		d.deliver(ev)
+	defer d.retryMu.Unlock()
+	d.flushDeliveries()
+}
+
+// flushDeliveries queues the waiting transitions, oldest first, and stops
+// at the first that fails (store writes failing): it and those after it
+// wait for the next try. It runs under retryMu.
+func (d *Daemon) flushDeliveries() {
+	for len(d.retry) > 0 {
+		ev := d.retry[0]
+		if d.notify(ev) != nil {
+			return
+		}
+		d.retry = d.retry[1:]
+		if err := d.alarms.Delivered(ev.DedupeKey); err != nil {
+			d.log.Warn("could not record an alarm notification as handed over; it may be handed over again after a restart",
+				"alarm", ev.Alarm, "key", ev.DedupeKey, "err", err)
+		}
 	}
+	d.retry = nil // release the backing array once drained
 }
