@@ -95,7 +95,7 @@ func (d *Daemon) pollLink(ctx context.Context, l *link) {
 		}
 		g := l.gauges[i]
 		d.poll(ctx, log, g)
-		d.progress.polls.Add(1)
+		d.progress.done()
 		iv := g.cfg.Interval.D()
 		next[i] = next[i].Add(iv)
 		if now := d.clock.Now(); next[i].Before(now) {

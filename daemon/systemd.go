@@ -42,9 +42,29 @@ func watchdogInterval() time.Duration {
 	return time.Duration(us) * time.Microsecond
 }
 
-// progress counts completed polls, so the watchdog is fed only while the
+// progress records completed polls, so the watchdog is fed only while the
 // pollers make progress, not by a bare ticker.
-type progress struct{ polls atomic.Uint64 }
+type progress struct {
+	polls atomic.Uint64
+	last  atomic.Int64 // wall-clock Unix ns of the last completed poll
+}
+
+func (p *progress) done() {
+	p.polls.Add(1)
+	p.last.Store(time.Now().UnixNano())
+}
+
+// longestPeriod is the longest a healthy link may go without completing a
+// poll: its slowest gauge's interval plus that gauge's timeout.
+func (d *Daemon) longestPeriod() time.Duration {
+	var longest time.Duration
+	for _, l := range d.links {
+		for _, g := range l.gauges {
+			longest = max(longest, g.cfg.Interval.D()+g.cfg.Timeout.D())
+		}
+	}
+	return longest
+}
 
 // systemdLoop tells systemd the daemon is ready, feeds its watchdog while
 // polls complete, and says it is stopping when ctx is done.
@@ -60,17 +80,25 @@ func (d *Daemon) systemdLoop(ctx context.Context) {
 	}
 	t := time.NewTicker(iv / 2)
 	defer t.Stop()
-	last := d.progress.polls.Load()
+	// Overdue means no poll completed for longer than the slowest gauge's
+	// interval and timeout (and half a watchdog period of slack): a hung
+	// poller, not a config with slow gauges.
+	overdue := d.longestPeriod() + iv/2
+	start := time.Now()
 	for {
 		select {
 		case <-ctx.Done():
 			return
-		case <-t.C:
-			if now := d.progress.polls.Load(); now != last || len(d.links) == 0 {
-				last = now
+		case now := <-t.C:
+			last := start
+			if ns := d.progress.last.Load(); ns != 0 {
+				last = time.Unix(0, ns)
+			}
+			if len(d.links) == 0 || now.Sub(last) <= overdue {
 				sdNotify("WATCHDOG=1")
 			} else {
-				d.log.Error("no poll completed for half the watchdog interval; systemd will restart the daemon", "watchdog_seconds", iv.Seconds())
+				d.log.Error("no poll completed for longer than any gauge's interval; systemd will restart the daemon",
+					"since_seconds", now.Sub(last).Seconds(), "watchdog_seconds", iv.Seconds())
 			}
 		}
 	}
