@@ -22,6 +22,10 @@ type gaugeLive struct {
 	members []*gauge     // combined gauge: its members, in config order
 	spans   []calib.Span // combined gauge: each member's trusted range
 	feeds   []*gauge     // combined gauges this gauge is a member of
+
+	// blendMu serialises a combined gauge's updates: its members may sit
+	// on different links, polled by different goroutines.
+	blendMu sync.Mutex
 }
 
 // liveState returns g's live state, creating it (with g's current transfer

@@ -57,12 +57,23 @@ func (d *Daemon) combineAfter(log *slog.Logger, g *gauge, s calib.Sample) {
 		return
 	}
 	for _, vg := range g.live.feeds {
-		c := d.blend(vg)
-		d.store.Append(vg.name, store.Point{At: c.At, Raw: c.Raw, Value: c.Value, Quality: uint8(c.Quality)})
-		d.record(log, vg, c)
-		for _, ev := range d.alarms.Observe(vg.name, c) {
-			d.alarmEvent(log, ev)
-		}
+		d.updateCombined(log, vg)
+	}
+}
+
+// updateCombined blends vg's members and passes the result down the
+// pipeline, one update at a time and never older than the last one.
+func (d *Daemon) updateCombined(log *slog.Logger, vg *gauge) {
+	vg.live.blendMu.Lock()
+	defer vg.live.blendMu.Unlock()
+	c := d.blend(vg)
+	if prev := vg.view(c.At); prev.seen && !c.At.After(prev.last.At) {
+		return // a member's newer sample was blended already
+	}
+	d.store.Append(vg.name, store.Point{At: c.At, Raw: c.Raw, Value: c.Value, Quality: uint8(c.Quality)})
+	d.record(log, vg, c)
+	for _, ev := range d.alarms.Observe(vg.name, c) {
+		d.alarmEvent(log, ev)
 	}
 }
 
