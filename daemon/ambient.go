@@ -3,6 +3,7 @@ package daemon
 import (
 	"fmt"
 	"log/slog"
+	"math"
 	"slices"
 	"strings"
 	"time"
@@ -48,6 +49,13 @@ func (v *checker) ambient(path string, g *GaugeConfig) {
 	v.expect(g.Kind == "pressure", path, "only pressure gauges take an ambient compensation")
 	if a.MaxAge == 0 {
 		a.MaxAge = Duration(time.Minute)
+	}
+	if ok && src != nil && src.Kind == "temperature" {
+		// src's interval and timeout defaults are filled when it is checked,
+		// which may come after this gauge: use what the config says, or 1s.
+		need := max(src.Interval.D(), defaultInterval) + src.Timeout.D()
+		v.expect(a.MaxAge.D() >= need, path+".max_age",
+			"must be at least %s (%s's interval and timeout), got %s; a shorter age makes the correction come and go", need, a.Gauge, a.MaxAge.D())
 	}
 	v.driverErrs(path, calib.Ambient{Reference: float64(a.Reference), Zero: a.ZeroPerKelvin, Span: a.SpanPerKelvin}.Validate())
 }
@@ -111,9 +119,11 @@ func (d *Daemon) ambientTransfers(g *gauge, t calib.Transfer, from, to time.Time
 	}
 	var temps []reading
 	err := d.store.Range(g.amb.from.name, from.Add(-g.amb.maxAge), to, func(p store.Point) bool {
+		c := math.NaN() // not ok: no correction, as live
 		if calib.Quality(p.Quality) == calib.QualityOK {
-			temps = append(temps, reading{p.At, p.Value})
+			c = p.Value
 		}
+		temps = append(temps, reading{p.At, c})
 		return true
 	})
 	if err != nil {
@@ -124,7 +134,7 @@ func (d *Daemon) ambientTransfers(g *gauge, t calib.Transfer, from, to time.Time
 		if i < len(temps) && temps[i].at.Equal(at) {
 			i++
 		}
-		if i == 0 || at.Sub(temps[i-1].at) > g.amb.maxAge {
+		if i == 0 || at.Sub(temps[i-1].at) > g.amb.maxAge || math.IsNaN(temps[i-1].c) {
 			return t
 		}
 		return compensated{t: t, a: g.amb.a, c: temps[i-1].c}

@@ -96,3 +96,34 @@ func TestAmbientTransfersForReprocess(t *testing.T) {
 		}
 	}
 }
+
+// An ambient age shorter than the temperature gauge's interval, or an
+// ambient on a combined gauge, is a problem, not silently ineffective.
+func TestAmbientConfigRefusesIneffective(t *testing.T) {
+	_, err := ParseConfig("amb2.yaml", []byte(`
+chamber: {name: amb, volume: 10 L}
+store: {dir: /tmp/x}
+links: {s: {simulator: {rough_pump: {speed: 2 m3/h}}}}
+gauges:
+  p1:
+    link: s
+    driver: sim
+    instrument: pirani
+    kind: pressure
+    ambient: {gauge: room, reference: 22 C, zero_per_kelvin: 0.01, max_age: 1 min}
+  room: {link: s, driver: sim, instrument: thermocouple, where: ambient, kind: temperature, interval: 10 min}
+  p2: {link: s, driver: sim, instrument: cdg, full_scale: 1000 Pa, kind: pressure}
+  both:
+    combine: [p1, p2]
+    ranges: {p1: [1 Pa, 1000 Pa], p2: [0.5 Pa, 1000 Pa]}
+    ambient: {gauge: room, reference: 22 C}
+`))
+	if err == nil {
+		t.Fatal("want problems")
+	}
+	for _, want := range []string{"gauges.p1.ambient.max_age: must be at least 10m", "gauges.both.ambient: a combined gauge has no raw signal"} {
+		if !strings.Contains(err.Error(), want) {
+			t.Errorf("problems lack %q:\n%v", want, err)
+		}
+	}
+}

@@ -45,6 +45,8 @@ func (v *checker) combined(name string, g *GaugeConfig) {
 	v.expect(len(g.Combine) >= 2, path+".combine", "a combined gauge needs two or more members, got %d", len(g.Combine))
 	v.expect(g.Link == "" && g.Driver == "", path, "a combined gauge has no link or driver of its own; remove them (its members are polled)")
 	v.expect(g.Calibration == nil, path+".calibration", "a combined gauge has no raw signal to calibrate; calibrate its members")
+	v.expect(g.Ambient == nil, path+".ambient", "a combined gauge has no raw signal to correct; put ambient: on its members")
+	v.expect(g.Interval == 0 && g.Timeout == 0, path, "a combined gauge is updated whenever a member reads; remove interval and timeout (set them on the members)")
 	if g.Kind == "" {
 		g.Kind = "pressure"
 	}
