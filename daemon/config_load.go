@@ -87,7 +87,7 @@ func parseConfig(name string, b []byte, checkOnly bool) (*Config, error) {
 		}
 		vals := map[[2]int]string{}
 		valuePaths(doc, "", vals)
-		probs = append(probs, typeProblems(te.Errors, cfg.lines, vals)...)
+		probs = append(probs, typeProblems(te.Errors, cfg.lines, vals, byText(doc, vals))...)
 	}
 	probs = check(cfg, probs)
 	if len(probs) > 0 {

@@ -28,7 +28,7 @@ func checkGolden(t *testing.T, path, got string) {
 }
 
 func TestLoadConfigReportsEveryProblem(t *testing.T) {
-	for _, name := range []string{"several-mistakes", "not-yaml", "bad-hardware"} {
+	for _, name := range []string{"several-mistakes", "not-yaml", "bad-hardware", "one-line-types"} {
 		t.Run(name, func(t *testing.T) {
 			path := filepath.Join("..", "testdata", "config", name+".yaml")
 			_, err := LoadConfig(path)

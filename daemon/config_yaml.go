@@ -194,11 +194,31 @@ func valuePaths(n *yaml.Node, path string, out map[[2]int]string) {
 	}
 }
 
+// byText maps "line\x00scalar text" to the paths of the scalars with that
+// text on that line, from the positions valuePaths recorded.
+func byText(doc *yaml.Node, vals map[[2]int]string) map[string][]string {
+	out := map[string][]string{}
+	var walk func(n *yaml.Node)
+	walk = func(n *yaml.Node) {
+		if n.Kind == yaml.ScalarNode {
+			if p, ok := vals[[2]int{n.Line, n.Column}]; ok {
+				k := strconv.Itoa(n.Line) + "\x00" + n.Value
+				out[k] = append(out[k], p)
+			}
+		}
+		for _, c := range n.Content {
+			walk(c)
+		}
+	}
+	walk(doc)
+	return out
+}
+
 // typeProblems turns yaml.v3's "line N: ..." messages into problems. A
 // message with a column (our own quantity types give one) names the exact
-// key; one without names the keys' common parent on that line, never a
-// guess between siblings.
-func typeProblems(msgs []string, lines map[string]int, vals map[[2]int]string) []Problem {
+// key; so does one quoting a value found once on its line; otherwise it
+// names the keys' common parent on that line, never a guess between siblings.
+func typeProblems(msgs []string, lines map[string]int, vals map[[2]int]string, texts map[string][]string) []Problem {
 	byLine := map[int][]string{}
 	for p, l := range lines {
 		byLine[l] = append(byLine[l], p)
@@ -216,6 +236,10 @@ func typeProblems(msgs []string, lines map[string]int, vals map[[2]int]string) [
 			col, _ := strconv.Atoi(sm[2])
 			if p, ok := vals[[2]int{line, col}]; ok {
 				path = p
+			}
+		} else if um := yamlUnmarh.FindStringSubmatch(sm[3]); um != nil && um[2] != "" {
+			if ps := texts[strconv.Itoa(line)+"\x00"+um[2]]; len(ps) == 1 {
+				path = ps[0]
 			}
 		}
 		probs = append(probs, Problem{Line: line, Path: path, Msg: plainTypeError(sm[3])})
