@@ -50,8 +50,8 @@ func (d *Daemon) buildGauges() error {
 		if err := linkFeeds(l); err != nil {
 			errs = append(errs, err)
 		}
-		if len(l.gauges) > 0 {
-			d.links = append(d.links, l)
+		if len(l.gauges) > 0 || len(errs) > 0 {
+			d.links = append(d.links, l) // on error, so that New closes it
 		} else if l.close != nil {
 			errs = append(errs, l.close())
 		}

@@ -78,8 +78,8 @@ func StorePath(dir string) string { return filepath.Join(dir, "holdfast.db") }
 
 // New builds a daemon: it opens the store and the links' drivers and binds
 // the HTTP listener, so that every startup problem is reported before Run.
-func New(cfg *Config, opt Options) (d *Daemon, err error) {
-	d = &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent}
+func New(cfg *Config, opt Options) (_ *Daemon, err error) {
+	d := &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent}
 	if d.log == nil {
 		d.log = slog.New(slog.DiscardHandler)
 	}
@@ -89,6 +89,11 @@ func New(cfg *Config, opt Options) (d *Daemon, err error) {
 	if d.emit == nil {
 		d.emit = func(Event) {}
 	}
+	defer func() {
+		if err != nil {
+			err = errors.Join(err, d.closeAll()) // nothing opened stays open
+		}
+	}()
 	if err := d.buildGauges(); err != nil {
 		return nil, err
 	}
@@ -103,18 +108,32 @@ func New(cfg *Config, opt Options) (d *Daemon, err error) {
 		return nil, err
 	}
 	if err := d.loadCalibrations(); err != nil {
-		return nil, errors.Join(err, d.store.Close())
+		return nil, err
 	}
 	if len(cfg.Notify) > 0 {
 		if d.ntf, err = newNotifierSet(cfg, d.store.Bolt(), d.clock, d.log.With("part", "notify")); err != nil {
-			return nil, errors.Join(fmt.Errorf("notifiers: %w", err), d.store.Close())
+			return nil, fmt.Errorf("notifiers: %w", err)
 		}
 	}
 	d.met = newMetrics(d)
 	if d.ln, err = net.Listen("tcp", cfg.HTTP.Listen); err != nil {
-		return nil, errors.Join(fmt.Errorf("http listen: %w", err), d.store.Close())
+		return nil, fmt.Errorf("http listen: %w", err)
 	}
 	return d, nil
+}
+
+// closeAll closes what a failed New had opened: its links and its store.
+func (d *Daemon) closeAll() error {
+	var errs []error
+	for _, l := range d.links {
+		if l.close != nil {
+			errs = append(errs, l.close())
+		}
+	}
+	if d.store != nil {
+		errs = append(errs, d.store.Close())
+	}
+	return errors.Join(errs...)
 }
 
 // Addr is the address the HTTP server listens on.
