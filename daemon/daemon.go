@@ -148,7 +148,14 @@ func (d *Daemon) Run(parent context.Context) error {
 	for _, l := range d.links {
 		wg.Go(func() { d.pollLink(ctx, l) })
 	}
-	srv := &http.Server{Handler: d.handler(), ReadHeaderTimeout: 5 * time.Second}
+	var handlers sync.WaitGroup // requests in flight; the store outlives them
+	h := d.handler()
+	srv := &http.Server{ReadHeaderTimeout: 5 * time.Second, BaseContext: func(net.Listener) context.Context { return ctx },
+		Handler: http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+			handlers.Add(1)
+			defer handlers.Done()
+			h.ServeHTTP(w, r)
+		})}
 	wg.Go(func() {
 		if err := srv.Serve(d.ln); !errors.Is(err, http.ErrServerClosed) {
 			cancel(fmt.Errorf("http: %w", err))
@@ -164,7 +171,12 @@ func (d *Daemon) Run(parent context.Context) error {
 	shut, done := context.WithTimeout(context.Background(), 3*time.Second)
 	httpErr := srv.Shutdown(shut)
 	done()
+	if httpErr != nil {
+		httpErr = nil // requests still running after 3 s: wait for them below, then close
+		_ = srv.Close()
+	}
 	wg.Wait()
+	handlers.Wait() // a reprocess or hold-test request finishes before the store closes
 	err := context.Cause(ctx)
 	if parent.Err() != nil {
 		err = nil // asked to stop, or the caller's time is up
