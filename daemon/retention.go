@@ -26,14 +26,21 @@ func (d *Daemon) retentionLoop(ctx context.Context) {
 	}
 }
 
+// applyRetention covers every stored series, including gauges since
+// removed from the config.
 func (d *Daemon) applyRetention(before time.Time) {
-	for _, g := range d.gauges {
-		n, err := d.store.DeleteBefore(g.name, before)
+	series, err := d.store.Series()
+	if err != nil {
+		d.log.Warn("retention failed; old samples kept", "err", err)
+		return
+	}
+	for _, name := range series {
+		n, err := d.store.DeleteBefore(name, before)
 		switch {
 		case err != nil:
-			d.log.Warn("retention failed; old samples kept", "gauge", g.name, "err", err)
+			d.log.Warn("retention failed; old samples kept", "gauge", name, "err", err)
 		case n > 0:
-			d.log.Info("old samples deleted", "gauge", g.name, "samples", n, "before", before)
+			d.log.Info("old samples deleted", "gauge", name, "samples", n, "before", before)
 		}
 	}
 }
