@@ -63,7 +63,7 @@ func (v *checker) combined(name string, g *GaugeConfig) {
 		mc, ok := v.cfg.Gauges[m]
 		switch {
 		case !ok || mc == nil:
-			v.problem(mp, "unknown gauge %q (known: %s)", m, strings.Join(v.gaugesWhere(func(c *GaugeConfig) bool { return len(c.Combine) == 0 }), ", "))
+			v.problem(mp, "unknown gauge %q (known: %s)", m, knownList(v.gaugesWhere(func(c *GaugeConfig) bool { return len(c.Combine) == 0 })))
 			continue
 		case len(mc.Combine) > 0:
 			v.problem(mp, "%q is itself a combined gauge; list its members here instead", m)

@@ -17,7 +17,7 @@ type Config struct {
 	Notify  []*NotifyConfig         `yaml:"notify"`
 
 	// Notes are remarks from checking that are not problems (a secret file
-	// not readable on the checking machine).
+	// not readable on the checking machine), each "LINE: note: ...".
 	Notes []string `yaml:"-"`
 
 	lines     map[string]int // config path -> line, for problems found after loading

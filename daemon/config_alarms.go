@@ -110,7 +110,7 @@ func (v *checker) alarm(path string, a *AlarmConfig, seen map[string]int, i int)
 		return
 	}
 	g, ok := v.cfg.Gauges[a.Gauge]
-	v.expect(ok, path+".gauge", "unknown gauge %q (known: %s)", a.Gauge, strings.Join(sortedKeys(v.cfg.Gauges), ", "))
+	v.expect(ok, path+".gauge", "unknown gauge %q (known: %s)", a.Gauge, knownList(sortedKeys(v.cfg.Gauges)))
 	if !ok || g == nil || gaugeDim(g.Kind) == 0 {
 		return
 	}

@@ -78,7 +78,7 @@ func check(cfg *Config, prior []Problem) []Problem {
 	if cfg.Store.FlushEvery == 0 {
 		cfg.Store.FlushEvery = Duration(defaultFlushEvery)
 	}
-	v.expect(len(cfg.Links) > 0, "links", "no links; define at least one (serial, tcp or simulator)")
+	v.expect(len(cfg.Links) > 0, "links", "no links; define at least one (serial, tcp, modbus_rtu, modbus_tcp or simulator)")
 	for _, name := range sortedKeys(cfg.Links) {
 		v.link(name, cfg.Links[name])
 	}
@@ -184,7 +184,7 @@ func (v *checker) simStep(path string, st *SimStep) {
 
 func (v *checker) simGauge(path, name string) {
 	g, ok := v.cfg.Gauges[name]
-	v.expect(ok && g != nil && g.Driver == "sim", path, "%q is not a simulated gauge (known: %s)", name, strings.Join(v.gaugesWhere(func(g *GaugeConfig) bool { return g.Driver == "sim" }), ", "))
+	v.expect(ok && g != nil && g.Driver == "sim", path, "%q is not a simulated gauge (known: %s)", name, knownList(v.gaugesWhere(func(g *GaugeConfig) bool { return g.Driver == "sim" })))
 }
 
 func (v *checker) gaugesWhere(f func(*GaugeConfig) bool) []string {
@@ -208,7 +208,7 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 		return
 	}
 	l, ok := v.cfg.Links[g.Link]
-	v.expect(ok, path+".link", "unknown link %q (known: %s)", g.Link, strings.Join(sortedKeys(v.cfg.Links), ", "))
+	v.expect(ok, path+".link", "unknown link %q (known: %s)", g.Link, knownList(sortedKeys(v.cfg.Links)))
 	v.expect(drivers.Known(g.Driver), path+".driver", "unknown driver %q (known: %s)", g.Driver, strings.Join(drivers.Kinds(), ", "))
 	if ok && l != nil {
 		v.gaugeOnLink(path, g, l)
@@ -298,4 +298,12 @@ func (v *checker) fromGauge(path string, g *GaugeConfig) {
 	}
 	v.expect(len(g.Exchange) == 0 && g.Query == "", path+".from", "a gauge with from: takes its reading from that gauge's exchange; remove its own exchange or query")
 	v.expect(g.Channel != "", path+".channel", "say which value of %q's reply is this gauge's (the gauge group's text, a step's gauge, or 1, 2, ...)", g.From)
+}
+
+// knownList lists names for a problem, or says there are none.
+func knownList(names []string) string {
+	if len(names) == 0 {
+		return "none defined"
+	}
+	return strings.Join(names, ", ")
 }

@@ -193,7 +193,7 @@ func (v *checker) secret(path, file string, required bool) []byte {
 	}
 	b, err := os.ReadFile(file)
 	if err != nil && v.secretsOptional() {
-		v.cfg.Notes = append(v.cfg.Notes, fmt.Sprintf("%s: cannot read the secret here (%v); the daemon will need it", path, err))
+		v.cfg.Notes = append(v.cfg.Notes, fmt.Sprintf("%d: note: %s: cannot read the secret here (%v); the daemon will need it", v.line(path), path, err))
 		return nil
 	}
 	if err != nil {

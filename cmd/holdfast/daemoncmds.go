@@ -63,7 +63,7 @@ func cmdCheck(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 		}
 		fmt.Fprintln(stdout, daemon.Summary(cfg))
 		for _, n := range cfg.Notes {
-			fmt.Fprintf(stdout, "%s: note: %s\n", f, n)
+			fmt.Fprintf(stdout, "%s:%s\n", f, n)
 		}
 	}
 	if bad > 0 {
