@@ -58,6 +58,9 @@ var (
 	descState = prometheus.NewDesc("holdfast_digital_state",
 		"Last state read from a digital input (a valve-closed switch, a pump-running contact): 1 on, 0 off. Absent while unknown.",
 		[]string{"gauge"}, nil)
+	descInfo = prometheus.NewDesc("holdfast_gauge_info",
+		"Always 1: what each gauge is (its link, driver, kind and display unit), to join on the gauge label.",
+		[]string{"gauge", "link", "driver", "kind", "unit"}, nil)
 	descUp = prometheus.NewDesc("holdfast_gauge_up",
 		"1 if the gauge answered its last polls and reports no sensor fault, else 0.",
 		[]string{"gauge"}, nil)
@@ -98,6 +101,11 @@ func (c *liveCollector) Describe(ch chan<- *prometheus.Desc) {
 func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
 	now := c.d.clock.Now()
 	for _, g := range c.d.gauges {
+		link, driver := g.cfg.Link, g.cfg.Driver
+		if len(g.cfg.Combine) > 0 {
+			driver = "combine"
+		}
+		ch <- prometheus.MustNewConstMetric(descInfo, prometheus.GaugeValue, 1, g.name, link, driver, g.cfg.Kind, g.cfg.Unit)
 		v := g.view(now)
 		ch <- prometheus.MustNewConstMetric(descUp, prometheus.GaugeValue, b2f(v.up && !v.stale), v.name)
 		if !v.seen {
