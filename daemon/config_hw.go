@@ -127,7 +127,7 @@ func driverOptions(name string, g *GaugeConfig) (drivers.Options, error) {
 	var errs []string
 	switch g.Driver {
 	case "ascii":
-		o.ASCII = drivers.ASCIIOptions{Address: g.Address, Channel: g.Channel, Status: map[string]drivers.Status{}}
+		o.ASCII = drivers.ASCIIOptions{Address: g.Address, Channel: g.Channel}
 		for _, s := range g.Exchange {
 			if s == nil {
 				continue
@@ -138,13 +138,7 @@ func driverOptions(name string, g *GaugeConfig) (drivers.Options, error) {
 		if g.Checksum != nil {
 			o.ASCII.Checksum = &drivers.Checksum{Kind: g.Checksum.Kind, Form: g.Checksum.Form, Skip: g.Checksum.Skip}
 		}
-		for code, st := range g.Status {
-			s, err := drivers.ParseStatus(st)
-			if err != nil {
-				errs = append(errs, fmt.Sprintf("status.%s: %v", code, err))
-			}
-			o.ASCII.Status[code] = s
-		}
+		o.ASCII.Status, errs = statusMap(g.Status, errs)
 		if err := o.ASCII.Validate(); err != nil {
 			errs = append(errs, strings.Split(err.Error(), "\n")...)
 		}
@@ -162,14 +156,7 @@ func driverOptions(name string, g *GaugeConfig) (drivers.Options, error) {
 		o.Modbus = drivers.ModbusOptions{Unit: m.Unit, Table: m.Table, Address: m.Address, Type: m.Type,
 			WordOrder: m.WordOrder, Scale: m.Scale, Offset: m.Offset, Invert: m.Invert, StatusRegister: m.StatusRegister}
 		if len(g.Status) > 0 {
-			o.Modbus.Status = map[string]drivers.Status{}
-			for code, st := range g.Status {
-				s, err := drivers.ParseStatus(st)
-				if err != nil {
-					errs = append(errs, fmt.Sprintf("status.%s: %v", code, err))
-				}
-				o.Modbus.Status[code] = s
-			}
+			o.Modbus.Status, errs = statusMap(g.Status, errs)
 		}
 		if err := o.Modbus.Validate(); err != nil {
 			for _, e := range strings.Split(err.Error(), "\n") {
@@ -181,6 +168,19 @@ func driverOptions(name string, g *GaugeConfig) (drivers.Options, error) {
 		return o, fieldErrors(errs)
 	}
 	return o, nil
+}
+
+// statusMap parses a gauge's status: codes, appending a problem per bad name.
+func statusMap(codes map[string]string, errs []string) (map[string]drivers.Status, []string) {
+	m := make(map[string]drivers.Status, len(codes))
+	for code, name := range codes {
+		s, err := drivers.ParseStatus(name)
+		if err != nil {
+			errs = append(errs, fmt.Sprintf("status.%s: %v", code, err))
+		}
+		m[code] = s
+	}
+	return m, errs
 }
 
 // fieldErrors carries problems that each begin with the field they name.

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"log/slog"
 	"math"
-	"slices"
 	"strings"
 	"sync"
 	"time"
@@ -82,7 +81,7 @@ func (d *Daemon) pollLink(ctx context.Context, l *link) {
 		next[i] = now
 	}
 	for {
-		i := slices.IndexFunc(next, func(t time.Time) bool { return t.Equal(slices.MinFunc(next, time.Time.Compare)) })
+		i := earliest(next)
 		if wait := next[i].Sub(d.clock.Now()); wait > 0 {
 			select {
 			case <-ctx.Done():
@@ -136,19 +135,11 @@ func (d *Daemon) pollShared(ctx context.Context, log *slog.Logger, g *gauge) {
 			d.handle(ctx, log, m, drivers.Reading{}, err)
 			continue
 		}
-		key := m.cfg.Channel
-		r, ok := all[key]
-		if !ok && key == "" && len(all) == 1 {
-			for _, only := range all {
-				r, ok = only, true
-			}
+		r, err := channelReading(all, m.cfg.Channel)
+		if err != nil {
+			err = &drivers.GaugeError{Gauge: m.name, Op: "parse reply", Err: err}
 		}
-		if !ok {
-			d.handle(ctx, log, m, r, &drivers.GaugeError{Gauge: m.name, Op: "parse reply",
-				Err: fmt.Errorf("no value for channel %q in the reply (got %s)", key, strings.Join(sortedKeys(all), ", "))})
-			continue
-		}
-		d.handle(ctx, log, m, r, nil)
+		d.handle(ctx, log, m, r, err)
 	}
 }
 
@@ -286,4 +277,29 @@ func (d *Daemon) withTimeout(ctx context.Context, timeout time.Duration) (contex
 		}
 	}()
 	return rctx, func() { close(stop); cancel(context.Canceled) }
+}
+
+// earliest is the index of the earliest time in ts (the first, on a tie).
+func earliest(ts []time.Time) int {
+	i := 0
+	for j, t := range ts {
+		if t.Before(ts[i]) {
+			i = j
+		}
+	}
+	return i
+}
+
+// channelReading picks one gauge's reading from a several-value exchange:
+// the one keyed by channel, or the only one when no channel is set.
+func channelReading(all map[string]drivers.Reading, channel string) (drivers.Reading, error) {
+	if r, ok := all[channel]; ok {
+		return r, nil
+	}
+	if channel == "" && len(all) == 1 {
+		for _, only := range all {
+			return only, nil
+		}
+	}
+	return drivers.Reading{}, fmt.Errorf("no value for channel %q in the reply (got %s)", channel, strings.Join(sortedKeys(all), ", "))
 }

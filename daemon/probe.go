@@ -76,10 +76,7 @@ func (p *Probe) Read(ctx context.Context) ProbeResult {
 	if md, ok := p.g.drv.(drivers.MultiDriver); ok && p.g.cfg.Channel != "" {
 		var all map[string]drivers.Reading
 		if all, err = md.ReadAll(ctx); err == nil {
-			var found bool
-			if r, found = all[p.g.cfg.Channel]; !found {
-				err = fmt.Errorf("no value for channel %q in the reply (got %v)", p.g.cfg.Channel, sortedKeys(all))
-			}
+			r, err = channelReading(all, p.g.cfg.Channel)
 		}
 	} else {
 		r, err = p.g.drv.Read(ctx)
