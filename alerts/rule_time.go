@@ -38,13 +38,18 @@ func (r *Stale) Tick(now time.Time, _ bool) Condition {
 }
 
 func (r *Stale) judge(now time.Time) Condition {
-	gap := now.Sub(r.last)
+	return overdue(now.Sub(r.last), r.After, "has sent no sample for %s (limit %s)", "is answering again")
+}
+
+// overdue is the condition of a rule that fires when something has lasted
+// too long: gap against limit, with the detail for either side.
+func overdue(gap, limit time.Duration, activeFormat, normal string) Condition {
 	c := unknown()
-	c.Known, c.Active, c.Value, c.Limit, c.Unit = true, gap >= r.After, gap.Seconds(), r.After.Seconds(), "s"
-	c.ValueText, c.LimitText = gap.Round(time.Second).String(), r.After.String()
-	c.Detail = fmt.Sprintf("has sent no sample for %s (limit %s)", c.ValueText, c.LimitText)
+	c.Known, c.Active, c.Value, c.Limit, c.Unit = true, gap >= limit, gap.Seconds(), limit.Seconds(), "s"
+	c.ValueText, c.LimitText = gap.Round(time.Second).String(), limit.String()
+	c.Detail = fmt.Sprintf(activeFormat, c.ValueText, c.LimitText)
 	if !c.Active {
-		c.Detail = "is answering again"
+		c.Detail = normal
 	}
 	return c
 }
@@ -86,13 +91,6 @@ func (r *Fault) Tick(now time.Time, _ bool) Condition {
 }
 
 func (r *Fault) judge(now time.Time, q calib.Quality) Condition {
-	bad := now.Sub(r.good)
-	c := unknown()
-	c.Known, c.Active, c.Value, c.Limit, c.Unit = true, bad >= r.After, bad.Seconds(), r.After.Seconds(), "s"
-	c.ValueText, c.LimitText = bad.Round(time.Second).String(), r.After.String()
-	c.Detail = fmt.Sprintf("has given no valid reading for %s (sensor fault or no answer; limit %s)", c.ValueText, c.LimitText)
-	if !c.Active {
-		c.Detail = "reads " + q.String() + " again"
-	}
-	return c
+	return overdue(now.Sub(r.good), r.After, "has given no valid reading for %s (sensor fault or no answer; limit %s)",
+		"reads "+q.String()+" again")
 }
