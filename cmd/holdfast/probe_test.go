@@ -34,7 +34,7 @@ gauges:
 }
 
 func TestPrintable(t *testing.T) {
-	if got, want := printable([]byte("?P1\r\n\x06\x05")), `?P1\r\n\x06\x05`; got != want {
+	if got, want := printable([]byte("READ 1\r\n\x06\x05")), `READ 1\r\n\x06\x05`; got != want {
 		t.Errorf("printable = %q, want %q", got, want)
 	}
 }

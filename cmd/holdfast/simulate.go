@@ -77,11 +77,11 @@ func parseSimulate(args []string, stderr io.Writer) (simulateArgs, error) {
 	fs.StringVar(&a.file, "config", "", "config `file` with the simulator link and its driver: sim gauges")
 	fs.StringVar(&a.pty, "pty", "", "`path` of the symlink to the pseudo-terminal, e.g. /tmp/holdfast-sim")
 	fs.StringVar(&a.link, "link", "", "the simulator link to serve (default: the config's only one)")
-	fs.StringVar(&a.protocol, "protocol", "ascii", "ascii (holdfast's own question-and-answer protocol) or modbus (Modbus RTU)")
+	fs.StringVar(&a.protocol, "protocol", "ascii", "ascii (holdfast's own line protocol: READ 1, READ ALL, INFO 1, CHANNELS) or modbus (Modbus RTU)")
 	fs.Float64Var(&a.speed, "speed", 1, "simulated seconds per wall second")
 	fs.IntVar(&a.unit, "unit", 1, "Modbus unit `id` to answer for, 1 to 247")
-	fs.StringVar(&a.opts.Address, "address", "", "ascii: answer only requests prefixed @ADDR, as a device on an RS-485 bus")
-	fs.BoolVar(&a.opts.Checksum, "checksum", false, "ascii: requests and replies carry a sum-mod-256 checksum (*HH)")
+	fs.StringVar(&a.opts.Address, "address", "", "ascii: answer only requests that begin \"TO ADDR \", as a device on an RS-485 bus")
+	fs.BoolVar(&a.opts.Checksum, "checksum", false, "ascii: requests and replies end in \" ~HH\", the exclusive-or of the bytes before the digits")
 	unit := fs.String("pressure-unit", "mbar", "the unit pressures are printed and served in")
 	if err := fs.Parse(args); err != nil {
 		return a, err
@@ -178,13 +178,13 @@ func printServed(w io.Writer, srv *sim.Server, a simulateArgs, slave string) {
 	fmt.Fprintln(w, "a pseudo-terminal ignores baud, parity and stop bits: any settings work")
 	tw := tabwriter.NewWriter(w, 2, 8, 2, ' ', 0)
 	if a.protocol == "modbus" {
-		fmt.Fprintln(tw, "  channel\tgauge\tinstrument\tvalue (float32, high word first)\tstatus (uint16)")
+		fmt.Fprintln(tw, "  channel\tgauge\tinstrument\tvalue (float32, high word first)\tstatus (uint16 flags)")
 		for _, c := range srv.Channels() {
 			fmt.Fprintf(tw, "  %d\t%s\t%s\tinput %d-%d, %s\tinput %d\n", c.Number, c.Name, c.Kind,
 				2*(c.Number-1), 2*(c.Number-1)+1, c.Unit, sim.StatusBase+c.Number-1)
 		}
 		tw.Flush()
-		fmt.Fprintln(w, "status codes: 0 ok, 1 under-range, 2 over-range, 3 sensor-fault, 4 off")
+		fmt.Fprintln(w, "status flags, one set at a time: 1 ok, 2 under-range, 4 over-range, 8 sensor-fault, 16 off")
 		return
 	}
 	fmt.Fprintln(tw, "  channel\tgauge\tinstrument\tunit")
@@ -192,8 +192,8 @@ func printServed(w io.Writer, srv *sim.Server, a simulateArgs, slave string) {
 		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\n", c.Number, c.Name, c.Kind, c.Unit)
 	}
 	tw.Flush()
-	fmt.Fprintln(w, "replies are <status>,<value>; status 0 ok, 1 under-range, 2 over-range, 3 sensor-fault, 4 off")
-	for _, cmd := range []string{"?P1", "?ALL"} {
+	fmt.Fprintln(w, "readings are CH<n> <value> <unit> <state>; states GOOD ok, BELOW under-range, ABOVE over-range, FAULT sensor-fault, IDLE off")
+	for _, cmd := range []string{"READ 1", "READ ALL"} {
 		req := srv.Request(cmd)
 		reply := srv.Answer(req[:len(req)-1])
 		fmt.Fprintf(w, "  now: %s -> %s\n", strconv.Quote(string(req)), quoteReply(reply))

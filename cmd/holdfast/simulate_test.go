@@ -113,11 +113,11 @@ func probeExample(t *testing.T, file, dev, gauge string) daemon.ProbeResult {
 }
 
 // The example pair: simulate serves pty-sim.yaml and the daemon's view,
-// pty-demo.yaml, reads every gauge, the ?ALL reply feeding three of them.
+// pty-demo.yaml, reads every gauge, the READ ALL reply feeding three of them.
 func TestSimulateServesPtyDemo(t *testing.T) {
 	dev := filepath.Join(t.TempDir(), "holdfast-sim")
 	out := startSimulate(t, dev, "--config", example("pty-sim.yaml"))
-	for _, want := range []string{"1  lock-cdg", "4  lock-wall", `"?P1\r" -> "2,`, `"?ALL\r" -> "1=`} {
+	for _, want := range []string{"1  lock-cdg", "4  lock-wall", `"READ 1\r" -> "CH1 1.467E+01 mbar ABOVE\r\n"`, `"READ ALL\r" -> "CH1 `} {
 		if !strings.Contains(strings.Join(strings.Fields(out.String()), "  "), strings.Join(strings.Fields(want), "  ")) {
 			t.Errorf("banner lacks %q:\n%s", want, out)
 		}
@@ -226,7 +226,7 @@ func TestSimulateUsageErrors(t *testing.T) {
 }
 
 // The README's two terminals: the daemon runs pty-demo.yaml against
-// simulate and every gauge, the three fed by one ?ALL reply included,
+// simulate and every gauge, the three fed by one READ ALL reply included,
 // reaches /metrics once the lock has pumped below the gauges' tops (at
 // speed 60 the roughing pump's 14 s time constant takes about 2 s of wall
 // time).

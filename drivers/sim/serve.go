@@ -16,11 +16,13 @@ import (
 // ServeOptions say how a Server presents its instruments on a serial line.
 type ServeOptions struct {
 	// Address, when set, puts the server on an RS-485-style bus: ASCII
-	// requests must carry it ("@03?P1") and replies repeat it ("@03:...");
-	// requests for other addresses get no answer. 1 to 8 letters or digits.
+	// requests must carry it ("TO 03 READ 1") and replies repeat it
+	// ("FROM 03 CH1 ..."); requests for other addresses get no answer. 1 to
+	// 8 letters or digits.
 	Address string
-	// Checksum makes every ASCII request and reply carry a sum8 checksum
-	// (see ServeASCII); a request without a good one is refused.
+	// Checksum makes every ASCII request and reply end in an exclusive-or
+	// checksum, " ~HH" (see ServeASCII); a request without a good one is
+	// refused.
 	Checksum bool
 	// Unit is the unit pressures are printed and served in; the zero Unit
 	// means Pa. Temperatures are always in °C.
@@ -167,7 +169,7 @@ func (in *Instrument) silentNow() bool {
 }
 
 // noNumber is what the ASCII protocol prints in place of a missing value.
-const noNumber = "------"
+const noNumber = "none"
 
 // formatValue prints v with digits significant digits in E notation, as
 // a controller's display does: 1.23E-04, -5.0E-01, 2.20E+01.

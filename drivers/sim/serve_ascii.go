@@ -11,23 +11,24 @@ import (
 	"holdfast/drivers"
 )
 
-// The ASCII protocol's status codes, one digit before each value.
-var asciiStatus = map[drivers.Status]byte{
-	drivers.StatusOK: '0', drivers.StatusUnderRange: '1', drivers.StatusOverRange: '2',
-	drivers.StatusSensorFault: '3', drivers.StatusOff: '4',
+// The ASCII protocol's state words, the last field of a reading.
+var asciiState = map[drivers.Status]string{
+	drivers.StatusOK: "GOOD", drivers.StatusUnderRange: "BELOW", drivers.StatusOverRange: "ABOVE",
+	drivers.StatusSensorFault: "FAULT", drivers.StatusOff: "IDLE",
 }
 
-// The refusal codes sent after NAK.
+// The reasons a request is refused, the word after REFUSED.
 const (
-	errUnknownCommand = "E1" // not a command of this protocol
-	errNoChannel      = "E2" // the channel number is not served
-	errChecksum       = "E3" // the checksum is missing or wrong
-	errTooLong        = "E4" // longer than maxRequest before its terminator
+	refuseUnknown  = "unknown-command" // not a command of this protocol
+	refuseChannel  = "no-such-channel" // the channel is missing or not served
+	refuseChecksum = "bad-checksum"    // the checksum is missing or wrong
+	refuseTooLong  = "too-long"        // longer than maxRequest before its terminator
 )
 
 const (
-	nak        = 0x15
 	maxRequest = 64 // bytes of one request, terminator excluded
+	refused    = "REFUSED "
+	sumMark    = " ~" // what stands before a checksum's two hex digits
 )
 
 // ServeASCII answers requests arriving on rw (the master side of a
@@ -35,34 +36,37 @@ const (
 // typically because its owner closed it.
 //
 // A request is a line ended by CR (an LF, or an LF after the CR, also ends
-// it; empty lines are ignored). A reply is a line ended by CR LF:
+// it; empty lines are ignored); its words are separated by single spaces
+// and are upper case. A reply is a line ended by CR LF:
 //
-//	request  [@ADDR]COMMAND[*CS]
-//	reply    [@ADDR:]BODY[*CS]
+//	request  [TO <addr> ]<command>[ ~<cs>]
+//	reply    [FROM <addr> ]<body>[ ~<cs>]
 //
 // Commands and their reply bodies:
 //
-//	?P<n>    channel n's reading:        <status>,<value>           0,1.23E-04
-//	?ALL     every channel:              <n>=<status>,<value>;...   1=0,9.87E+02;2=0,2.20E+01
-//	?N<n>    what channel n is:          <name>,<kind>,<unit>       rough,pirani,mbar
-//	?C       how many channels:          <count>                    4
+//	READ <n>    channel n's reading:    CH<n> <value> <unit> <state>         CH1 1.23E-04 mbar GOOD
+//	READ ALL    every channel:          the same, joined by " | "            CH1 9.87E+02 mbar GOOD | CH2 2.20E+01 C GOOD
+//	INFO <n>    what channel n is:      CH<n> <name> <kind> <unit>           CH3 rough pirani mbar
+//	CHANNELS    how many channels:      CHANNELS <count>                     CHANNELS 4
 //
-// Status is 0 ok, 1 under-range, 2 over-range, 3 sensor-fault, 4 off. A
-// value has the instrument's significant digits in E notation, or is
-// "------" when the instrument gives no number (sensor-fault, off). A
-// channel whose instrument is silent gets no reply to ?P and is left out of
-// ?ALL. Pressures are in ServeOptions.Unit, temperatures in °C.
+// The state is GOOD (ok), BELOW (under-range), ABOVE (over-range), FAULT
+// (sensor fault) or IDLE (switched off). A value has the instrument's
+// significant digits in E notation, or is "none" when the instrument gives
+// no number (a fault, a gauge switched off). A channel whose instrument is
+// silent gets no reply to READ <n> and is left out of READ ALL. Pressures
+// are in ServeOptions.Unit, temperatures in C.
 //
-// With ServeOptions.Address set, only requests that begin with @ADDR are
-// answered, and replies begin with @ADDR: (bus devices stay quiet when not
-// addressed). With ServeOptions.Checksum set, requests and replies end in
-// '*' and two upper-case hex digits: the sum modulo 256 of every byte
-// before the digits, the '*' included.
+// With ServeOptions.Address set, only requests that begin "TO <addr> " are
+// answered, and replies begin "FROM <addr> " (bus devices stay quiet when
+// not addressed). With ServeOptions.Checksum set, requests and replies end
+// in " ~" and two hex digits (upper case in replies, either case in
+// requests): the exclusive-or of every byte of the line before the digits,
+// the " ~" included. A request without a good one is refused.
 //
-// A request that cannot be carried out gets NAK (0x15) and a code in place
-// of the body: E1 unknown command, E2 no such channel, E3 missing or wrong
-// checksum, E4 request longer than 64 bytes. So "?P1\r" may get
-// "0,1.23E-04\r\n" and "?X\r" gets "\x15E1\r\n".
+// A request that cannot be carried out gets REFUSED and a reason in place
+// of the body: unknown-command, no-such-channel, bad-checksum, or too-long
+// (over 64 bytes). So "READ 1\r" may get "CH1 1.23E-04 mbar GOOD\r\n" and
+// "READ 9\r" gets "REFUSED no-such-channel\r\n".
 func (s *Server) ServeASCII(rw io.ReadWriter) error {
 	r := bufio.NewReader(rw)
 	for {
@@ -74,9 +78,10 @@ func (s *Server) ServeASCII(rw io.ReadWriter) error {
 			continue
 		}
 		var reply []byte
-		if tooLong {
-			reply = s.frame(nil, true, errTooLong)
-		} else {
+		switch _, ours := s.unwrap(line); {
+		case tooLong && ours: // the kept start names this device
+			reply = s.frame([]byte(refused + refuseTooLong))
+		case !tooLong:
 			reply = s.Answer(line)
 		}
 		if reply == nil {
@@ -117,17 +122,14 @@ func (s *Server) Answer(req []byte) []byte {
 	if s.opts.Checksum {
 		var good bool
 		if body, good = checkSum(body, req); !good {
-			return s.frame(nil, true, errChecksum)
+			return s.frame([]byte(refused + refuseChecksum))
 		}
 	}
-	reply, nakCode, quiet := s.command(string(body))
-	switch {
-	case quiet:
+	reply, quiet := s.command(string(body))
+	if quiet {
 		return nil
-	case nakCode != "":
-		return s.frame(nil, true, nakCode)
 	}
-	return s.frame(reply, false, "")
+	return s.frame(reply)
 }
 
 // unwrap strips the address prefix; ok is false when the request is not
@@ -136,26 +138,26 @@ func (s *Server) unwrap(req []byte) ([]byte, bool) {
 	if s.opts.Address == "" {
 		return req, true
 	}
-	prefix := "@" + s.opts.Address
-	rest, found := bytes.CutPrefix(req, []byte(prefix))
-	if !found || len(rest) > 0 && rest[0] != '?' && rest[0] != '*' {
+	to := "TO " + s.opts.Address
+	rest, found := bytes.CutPrefix(req, []byte(to))
+	if !found || len(rest) > 0 && rest[0] != ' ' {
 		return nil, false // another device's address, or a longer one sharing our prefix
 	}
-	return rest, true
+	return bytes.TrimPrefix(rest, []byte(" ")), true
 }
 
-// checkSum splits "BODY*CS" and checks CS over the whole request up to it.
+// checkSum splits "BODY ~CS" and checks CS over the whole request up to it.
 func checkSum(body, req []byte) ([]byte, bool) {
-	star := bytes.LastIndexByte(body, '*')
-	if star < 0 || len(body)-star != 3 {
+	mark := bytes.LastIndex(body, []byte(sumMark))
+	if mark < 0 || len(body)-mark != len(sumMark)+2 {
 		return nil, false
 	}
 	covered := req[:len(req)-2]
-	want := hexByte(drivers.Sum8(covered))
-	if !strings.EqualFold(string(body[star+1:]), want) {
+	want := hexByte(drivers.XOR8(covered))
+	if !strings.EqualFold(string(body[mark+len(sumMark):]), want) {
 		return nil, false
 	}
-	return body[:star], true
+	return body[:mark], true
 }
 
 func hexByte(b byte) string {
@@ -163,50 +165,47 @@ func hexByte(b byte) string {
 	return string([]byte{digits[b>>4], digits[b&15]})
 }
 
-// frame adds the address, the NAK, the checksum and CR LF to a reply body.
-func (s *Server) frame(body []byte, refused bool, code string) []byte {
+// frame adds the address, the checksum and CR LF to a reply body.
+func (s *Server) frame(body []byte) []byte {
 	var out []byte
-	if refused {
-		out = append(out, nak)
-		body = []byte(code)
-	}
 	if s.opts.Address != "" {
-		out = append(out, '@')
+		out = append(out, "FROM "...)
 		out = append(out, s.opts.Address...)
-		out = append(out, ':')
+		out = append(out, ' ')
 	}
 	out = append(out, body...)
 	if s.opts.Checksum {
-		out = append(out, '*')
-		out = append(out, hexByte(drivers.Sum8(out))...)
+		out = append(out, sumMark...)
+		out = append(out, hexByte(drivers.XOR8(out))...)
 	}
 	return append(out, '\r', '\n')
 }
 
-// command carries out one command. It returns the reply body, or the NAK
-// code of a refusal, or quiet for a silent instrument.
-func (s *Server) command(cmd string) (body []byte, nakCode string, quiet bool) {
+// command carries out one command. It returns the reply body (a refusal
+// included), or quiet for a silent instrument.
+func (s *Server) command(cmd string) (body []byte, quiet bool) {
+	verb, arg, hasArg := strings.Cut(cmd, " ")
 	switch {
-	case cmd == "?ALL":
-		return s.all(), "", false
-	case cmd == "?C":
-		return strconv.AppendInt(nil, int64(len(s.ins)), 10), "", false
-	case strings.HasPrefix(cmd, "?P"), strings.HasPrefix(cmd, "?N"):
-		n, ok := s.channel(cmd[2:])
+	case verb == "CHANNELS" && !hasArg:
+		return fmt.Appendf(nil, "CHANNELS %d", len(s.ins)), false
+	case verb == "READ" && arg == "ALL":
+		return s.all(), false
+	case verb == "READ", verb == "INFO":
+		n, ok := s.channel(arg)
 		if !ok {
-			return nil, errNoChannel, false
+			return []byte(refused + refuseChannel), false
 		}
-		if cmd[1] == 'N' {
+		if verb == "INFO" {
 			c := s.Channels()[n-1]
-			return fmt.Appendf(nil, "%s,%s,%s", c.Name, c.Kind, c.Unit), "", false
+			return fmt.Appendf(nil, "CH%d %s %s %s", n, c.Name, c.Kind, c.Unit), false
 		}
 		sh := s.show(n)
 		if sh.silent {
-			return nil, "", true
+			return nil, true
 		}
-		return appendShown(nil, sh), "", false
+		return s.appendShown(nil, n, sh), false
 	}
-	return nil, errUnknownCommand, false
+	return []byte(refused + refuseUnknown), false
 }
 
 // channel parses a channel number: decimal digits naming a served channel.
@@ -226,32 +225,38 @@ func (s *Server) all() []byte {
 			continue
 		}
 		if len(out) > 0 {
-			out = append(out, ';')
+			out = append(out, " | "...)
 		}
-		out = strconv.AppendInt(out, int64(n), 10)
-		out = append(out, '=')
-		out = appendShown(out, sh)
+		out = s.appendShown(out, n, sh)
 	}
 	return out
 }
 
-func appendShown(out []byte, sh shown) []byte {
-	out = append(out, asciiStatus[sh.status], ',')
-	return append(out, formatValue(sh.value, sh.digits)...)
+// appendShown appends "CH<n> <value> <unit> <state>".
+func (s *Server) appendShown(out []byte, n int, sh shown) []byte {
+	out = append(out, "CH"...)
+	out = strconv.AppendInt(out, int64(n), 10)
+	out = append(out, ' ')
+	out = append(out, formatValue(sh.value, sh.digits)...)
+	out = append(out, ' ')
+	out = append(out, s.unitOf(s.ins[n-1])...)
+	out = append(out, ' ')
+	return append(out, asciiState[sh.status]...)
 }
 
-// Request returns cmd (such as "?P1") as this server expects to receive
+// Request returns cmd (such as "READ 1") as this server expects to receive
 // it: with its address and checksum, and the CR terminator.
 func (s *Server) Request(cmd string) []byte {
 	var out []byte
 	if s.opts.Address != "" {
-		out = append(out, '@')
+		out = append(out, "TO "...)
 		out = append(out, s.opts.Address...)
+		out = append(out, ' ')
 	}
 	out = append(out, cmd...)
 	if s.opts.Checksum {
-		out = append(out, '*')
-		out = append(out, hexByte(drivers.Sum8(out))...)
+		out = append(out, sumMark...)
+		out = append(out, hexByte(drivers.XOR8(out))...)
 	}
 	return append(out, '\r')
 }

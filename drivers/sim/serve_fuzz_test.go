@@ -8,7 +8,7 @@ import (
 // Whatever arrives on the line, the server answers with one well-formed
 // line, carrying its address, or stays silent.
 func FuzzAnswer(f *testing.F) {
-	for _, seed := range []string{"?P1", "?ALL", "?N4", "?C", "@07?P2*6C", "?P999999999999", "?P+1", "\x15", "*", "@07*", "?ALL*ZZ", ""} {
+	for _, seed := range []string{"READ 1", "READ ALL", "INFO 4", "CHANNELS", "TO 07 READ 2 ~42", "READ 999999999999", "READ +1", "\x15", " ~", "TO 07 ~", "READ ALL ~ZZ", "TO 07", ""} {
 		f.Add([]byte(seed), false, "")
 		f.Add([]byte(seed), true, "07")
 	}
@@ -24,13 +24,13 @@ func FuzzAnswer(f *testing.F) {
 		if !bytes.HasSuffix(got, []byte("\r\n")) || bytes.Count(got, []byte("\n")) != 1 || len(got) > 256 {
 			t.Fatalf("Answer(%q) = %q: want one line ending in CR LF", req, got)
 		}
-		if addr != "" && !bytes.HasPrefix(bytes.TrimPrefix(got, []byte{nak}), []byte("@"+addr+":")) {
+		if addr != "" && !bytes.HasPrefix(got, []byte("FROM "+addr+" ")) {
 			t.Fatalf("Answer(%q) = %q: reply lacks the address", req, got)
 		}
 	})
 }
 
-// BenchmarkAnswerAll measures one ?ALL exchange over four instruments,
+// BenchmarkAnswerAll measures one READ ALL exchange over four instruments,
 // the heaviest request, and reports the reply size.
 func BenchmarkAnswerAll(b *testing.B) {
 	ch, _ := newTestChamber(b, Config{Volume: 0.03, StartPressure: 1000, AmbientC: 22, PumpsOff: true})
@@ -49,7 +49,7 @@ func BenchmarkAnswerAll(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	req := bytes.TrimSuffix(s.Request("?ALL"), []byte("\r"))
+	req := bytes.TrimSuffix(s.Request("READ ALL"), []byte("\r"))
 	var n int
 	for b.Loop() {
 		n = len(s.Answer(req))

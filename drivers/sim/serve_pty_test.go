@@ -44,9 +44,10 @@ func ptyLink(t *testing.T, device string) *drivers.StreamLink {
 	return l
 }
 
+// asciiStatusMap is the status: map of deploy/examples/pty-demo.yaml.
 var asciiStatusMap = map[string]drivers.Status{
-	"0": drivers.StatusOK, "1": drivers.StatusUnderRange, "2": drivers.StatusOverRange,
-	"3": drivers.StatusSensorFault, "4": drivers.StatusOff,
+	"GOOD": drivers.StatusOK, "BELOW": drivers.StatusUnderRange, "ABOVE": drivers.StatusOverRange,
+	"FAULT": drivers.StatusSensorFault, "IDLE": drivers.StatusOff,
 }
 
 // The daemon's ascii driver, configured as deploy/examples/pty-demo.yaml
@@ -55,17 +56,17 @@ func TestASCIIThroughPty(t *testing.T) {
 	s, ins := newTestServer(t, ServeOptions{Unit: unit(t, "mbar")})
 	l := ptyLink(t, servePTY(t, func(p *PTY) error { return s.ServeASCII(p.Master) }))
 	one, err := drivers.NewASCII(l, drivers.Options{Gauge: "chamber-cdg", ASCII: drivers.ASCIIOptions{
-		Steps:  []drivers.Step{{Send: `?P1\r`, Expect: `^(?P<status>\d),(?P<value>\S+)$`}},
+		Steps:  []drivers.Step{{Send: `READ 1\r`, Expect: `^CH1 (?P<value>\S+) \S+ (?P<status>[A-Z]+)$`}},
 		Status: asciiStatusMap,
 	}})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if r, err := one.Read(context.Background()); err != nil || r.Raw != 10 || r.Status != drivers.StatusOK {
-		t.Errorf("?P1 read = %+v, %v; want 10 mbar ok", r, err)
+		t.Errorf("READ 1 = %+v, %v; want 10 mbar ok", r, err)
 	}
 	all, err := drivers.NewASCII(l, drivers.Options{Gauge: "all", ASCII: drivers.ASCIIOptions{
-		Steps:   []drivers.Step{{Send: `?ALL\r`, Expect: `(?P<gauge>\d+)=(?P<status>\d),(?P<value>[^;]+)`}},
+		Steps:   []drivers.Step{{Send: `READ ALL\r`, Expect: `CH(?P<gauge>\d+) (?P<value>\S+) \S+ (?P<status>[A-Z]+)`}},
 		Status:  asciiStatusMap,
 		Channel: "1",
 	}})
@@ -77,7 +78,7 @@ func TestASCIIThroughPty(t *testing.T) {
 		t.Fatal(err)
 	}
 	if len(rs) != 4 || rs["1"].Raw != 10 || rs["2"].Raw != 22 || rs["3"].Status != drivers.StatusOff || !math.IsNaN(rs["3"].Raw) {
-		t.Errorf("?ALL = %+v; want 4 channels, 3 off", rs)
+		t.Errorf("READ ALL = %+v; want 4 channels, 3 off", rs)
 	}
 	// A silent instrument: the daemon sees no reply, and the next
 	// exchange after recovery reads again.
@@ -98,10 +99,11 @@ func TestASCIIAddressChecksumThroughPty(t *testing.T) {
 	s, _ := newTestServer(t, ServeOptions{Unit: unit(t, "mbar"), Address: "07", Checksum: true})
 	l := ptyLink(t, servePTY(t, func(p *PTY) error { return s.ServeASCII(p.Master) }))
 	opts := drivers.ASCIIOptions{
-		Steps:    []drivers.Step{{Send: `@{addr}?P2*{cs}\r`, Expect: `^@{addr}:(?P<status>\d),(?P<value>[^*]+)\*(?P<cs>[0-9A-F]{2})$`}},
+		Steps: []drivers.Step{{Send: `TO {addr} READ 2 ~{cs}\r`,
+			Expect: `^FROM {addr} CH2 (?P<value>\S+) \S+ (?P<status>[A-Z]+) ~(?P<cs>[0-9A-F]{2})$`}},
 		Status:   asciiStatusMap,
 		Address:  "07",
-		Checksum: &drivers.Checksum{Kind: "sum8"},
+		Checksum: &drivers.Checksum{Kind: "xor8"},
 	}
 	d, err := drivers.NewASCII(l, drivers.Options{Gauge: "room-tc", ASCII: opts})
 	if err != nil {
@@ -118,12 +120,12 @@ func TestASCIIAddressChecksumThroughPty(t *testing.T) {
 	if _, err := other.Read(context.Background()); !errors.Is(err, drivers.ErrNoReply) {
 		t.Errorf("address 08: err = %v, want no reply", err)
 	}
-	opts.Address, opts.Steps[0].Send = "07", `@{addr}?Q*{cs}\r` // refused: the driver reports the NAK
+	opts.Address, opts.Steps[0].Send = "07", `TO {addr} HELLO ~{cs}\r` // refused: the driver shows the refusal
 	bad, err := drivers.NewASCII(l, drivers.Options{Gauge: "bad", ASCII: opts})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := bad.Read(context.Background()); err == nil || !strings.Contains(err.Error(), "refus") {
+	if _, err := bad.Read(context.Background()); err == nil || !strings.Contains(err.Error(), "REFUSED unknown-command") {
 		t.Errorf("unknown command: err = %v, want the refusal", err)
 	}
 }
@@ -148,8 +150,16 @@ func TestModbusThroughPty(t *testing.T) {
 	if r, err := read(drivers.ModbusOptions{Unit: 5, Table: "input", Address: 2, Type: "float32"}); err != nil || relErr(r.Raw, 22) > 1e-6 {
 		t.Errorf("channel 2 value = %v, %v; want 22 °C", r.Raw, err)
 	}
-	if r, err := read(drivers.ModbusOptions{Unit: 5, Table: "input", Address: StatusBase + 2, Type: "uint16"}); err != nil || r.Raw != 4 {
-		t.Errorf("channel 3 status = %v, %v; want 4 (off)", r.Raw, err)
+	if r, err := read(drivers.ModbusOptions{Unit: 5, Table: "input", Address: StatusBase + 2, Type: "uint16"}); err != nil || r.Raw != 16 {
+		t.Errorf("channel 3 status = %v, %v; want 16 (bit 4, off)", r.Raw, err)
+	}
+	// The status register decoded as deploy/examples/pty-modbus.yaml does.
+	reg := uint16(StatusBase + 2)
+	flags := map[string]drivers.Status{"1": drivers.StatusOK, "2": drivers.StatusUnderRange, "4": drivers.StatusOverRange,
+		"8": drivers.StatusSensorFault, "16": drivers.StatusOff}
+	if r, err := read(drivers.ModbusOptions{Unit: 5, Table: "input", Address: 4, Type: "float32", StatusRegister: &reg, Status: flags}); err != nil ||
+		r.Status != drivers.StatusOff || !math.IsNaN(r.Raw) {
+		t.Errorf("channel 3 with its status register = %+v, %v; want off with no number", r, err)
 	}
 	if err := ins[1].Fail(ModeSilent); err != nil {
 		t.Fatal(err)

@@ -15,8 +15,10 @@ import (
 //	2(n-1), 2(n-1)+1   channel n's value, IEEE 754 float32, high word first,
 //	                   each word big-endian (the Modbus default); NaN when
 //	                   the instrument gives no number (sensor-fault, off)
-//	StatusBase+(n-1)   channel n's status code: 0 ok, 1 under-range,
-//	                   2 over-range, 3 sensor-fault, 4 off (as in the ASCII protocol)
+//	StatusBase+(n-1)   channel n's status flags, one bit set at a time:
+//	                   bit 0 (1) reading good, bit 1 (2) below range,
+//	                   bit 2 (4) above range, bit 3 (8) sensor fault,
+//	                   bit 4 (16) channel off; the other bits are 0
 //
 // Values are in the units of ServeOptions (pressures) and °C. A read that
 // touches a channel whose instrument is silent gets exception 4 (server
@@ -24,6 +26,12 @@ import (
 // (illegal data address). There are no holding registers, coils or
 // discrete inputs.
 const StatusBase = 100
+
+// The status register's flags; see StatusBase.
+var statusFlags = map[drivers.Status]uint16{
+	drivers.StatusOK: 1 << 0, drivers.StatusUnderRange: 1 << 1, drivers.StatusOverRange: 1 << 2,
+	drivers.StatusSensorFault: 1 << 3, drivers.StatusOff: 1 << 4,
+}
 
 // ServeRTU answers Modbus RTU requests for unit arriving on rw until rw
 // fails (its owner closed it), with the register map above.
@@ -90,7 +98,7 @@ func (s *Server) inputRegisters(addr, qty uint16) ([]uint16, error) {
 // register is the one register at address a of a channel's reading.
 func register(sh shown, a int, values bool) uint16 {
 	if !values {
-		return uint16(asciiStatus[sh.status] - '0')
+		return statusFlags[sh.status]
 	}
 	bits := math.Float32bits(float32(sh.value))
 	if math.IsNaN(sh.value) {

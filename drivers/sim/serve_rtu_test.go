@@ -50,8 +50,9 @@ func TestInputRegisters(t *testing.T) {
 		t.Errorf("channel 3 (ion gauge off) = %v, want NaN", v)
 	}
 	status, err := s.inputRegisters(StatusBase, 4)
-	if err != nil || status[0] != 0 || status[1] != 0 || status[2] != 4 || status[3] != 0 {
-		t.Errorf("status registers = %v, %v; want [0 0 4 0]", status, err)
+	// Bit 0 (good) for channels 1, 2 and 4, bit 4 (off) for the ion gauge.
+	if err != nil || status[0] != 1 || status[1] != 1 || status[2] != 16 || status[3] != 1 {
+		t.Errorf("status registers = %v, %v; want [1 1 16 1]", status, err)
 	}
 	if err := ins[1].Fail(ModeSilent); err != nil {
 		t.Fatal(err)
@@ -72,13 +73,14 @@ func TestInputRegisters(t *testing.T) {
 	}
 }
 
-// The status codes are the ASCII protocol's; the register map documents
-// them, and every drivers.Status has one.
-func TestStatusCodesCoverEveryStatus(t *testing.T) {
+// Every drivers.Status has its own flag, one bit, as the register map
+// documents: 1 ok, 2 under-range, 4 over-range, 8 sensor-fault, 16 off.
+func TestStatusFlagsCoverEveryStatus(t *testing.T) {
+	want := map[drivers.Status]uint16{drivers.StatusOK: 1, drivers.StatusUnderRange: 2, drivers.StatusOverRange: 4,
+		drivers.StatusSensorFault: 8, drivers.StatusOff: 16}
 	for st := drivers.StatusOK; st <= drivers.StatusOff; st++ {
-		code, ok := asciiStatus[st]
-		if !ok || code < '0' || code > '4' || register(shown{status: st}, StatusBase, false) != uint16(code-'0') {
-			t.Errorf("status %v: code %q, %v", st, code, ok)
+		if got := register(shown{status: st}, StatusBase, false); got != want[st] || want[st] == 0 {
+			t.Errorf("status %v: register %d, want %d", st, got, want[st])
 		}
 	}
 }
