@@ -40,26 +40,28 @@ import (
 // `^\x06$` before an enquiry step, or an echo of the command. A reply that
 // begins with the NAK byte (\x15) is reported as the instrument refusing the
 // command. A handshake instrument that answers a command with ACK and sends
-// the reading only on enquiry is two steps:
+// the reading only on enquiry (ENQ, \x05) is two steps; for an invented one
+// that acknowledges "SNAP.<addr>" and then replies "6.5E-02|v" (value, a
+// bar, a state letter):
 //
 //	exchange:
-//	  - {send: "PV{addr}\r\n", expect: '^\x06$'}
-//	  - {send: "\x05", expect: '^(?P<status>\d),(?P<value>\S+)$'}
+//	  - {send: "SNAP.{addr}\r\n", expect: '^\x06$'}
+//	  - {send: "\x05", expect: '^(?P<value>[^|]+)\|(?P<status>[a-z])$'}
 //
 // # Status
 //
 // Status maps codes to ok, over-range, under-range, sensor-fault or off. It is
 // looked up with the status group's text (spaces trimmed), and also with the
 // value group's text when that is not a number, so an instrument that prints
-// "OVER" or "OFF" in place of the number can be mapped too. A code missing
+// a word such as "asleep" in place of the number can be mapped too. A code missing
 // from the map is an error naming the code, never a guess. A reading whose
 // status is not ok keeps the number if one was printed, else its Raw is NaN.
 //
 // # Several gauges in one reply
 //
 // When a reply carries several channels, Expect is matched repeatedly over
-// the reply (for instance `(?P<gauge>\d)=(?P<value>[^,]+)` over
-// "1=1.2E-3,2=4.0E-6") and every match gives one reading. The readings are
+// the reply (for instance `(?P<gauge>[a-z]):(?P<value>\S+)` over
+// "a:1.2E-3 b:4.0E-6") and every match gives one reading. The readings are
 // keyed by the gauge group's text; without a gauge group, by the step's Gauge
 // field; without either, by their position in the exchange: "1", "2", ... The
 // driver implements MultiDriver: ReadAll returns every reading of one
@@ -107,7 +109,7 @@ func (o ASCIIOptions) Validate() error {
 func (o ASCIIOptions) compile() ([]asciiStep, error) {
 	var errs []error
 	if len(o.Steps) == 0 {
-		errs = append(errs, errors.New(`exchange: no steps; give at least one, e.g. [{send: "?\r", expect: '^(?P<value>\S+)$'}]`))
+		errs = append(errs, errors.New(`exchange: no steps; give at least one, e.g. [{send: "SHOW\r", expect: '^(?P<value>\S+)$'}]`))
 	}
 	addr, err := Unescape(o.Address)
 	if err != nil {
@@ -218,7 +220,7 @@ func (o ASCIIOptions) checkWhole(steps []asciiStep) []error {
 		errs = append(errs, fmt.Errorf("exchange[%d].expect: regexp has no (?P<value>...) group; one step must capture the reading", len(steps)-1))
 	}
 	if statuses > 0 && len(o.Status) == 0 {
-		errs = append(errs, errors.New(`status: the reply has a status group; map its codes, e.g. {"0": ok, "1": under-range, "2": over-range}`))
+		errs = append(errs, errors.New(`status: the reply has a status group; map its codes, e.g. {fine: ok, low: under-range, high: over-range}`))
 	}
 	if o.Checksum != nil && sums == 0 {
 		errs = append(errs, errors.New("checksum: set, but no step sends {cs} or captures (?P<cs>...)"))

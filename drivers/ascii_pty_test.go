@@ -16,18 +16,19 @@ func ptyASCII(t *testing.T, inst *fakeInstrument, o ASCIIOptions) *ASCII {
 	return d
 }
 
-// A handshake instrument: a command is acknowledged with ACK, and the
-// reading comes only after the host sends ENQ.
+// An invented handshake instrument: "SNAP.<addr>" is acknowledged with ACK,
+// and the reading, "<value>|<state letter>", comes only after the host
+// sends ENQ.
 func TestASCIIHandshakeThroughPty(t *testing.T) {
 	armed := false
 	inst := startInstrument(t, func(p []byte) ([]byte, bool) {
 		switch s := string(p); {
-		case s == "PV1\r\n":
+		case s == "SNAP.1\r\n":
 			armed = true
 			return []byte("\x06\r\n"), true
 		case s == "\x05" && armed:
 			armed = false
-			return []byte("0,1.0E-03\r\n"), true
+			return []byte("1.0E-03|v\r\n"), true
 		case s == "\x05":
 			return []byte("\x15\r\n"), true
 		case strings.HasSuffix(s, "\n"):
@@ -36,9 +37,9 @@ func TestASCIIHandshakeThroughPty(t *testing.T) {
 		return nil, false
 	})
 	d := ptyASCII(t, inst, ASCIIOptions{
-		Steps:   []Step{{Send: `PV{addr}\r\n`, Expect: `^\x06$`}, {Send: `\x05`, Expect: `^(?P<status>\d),(?P<value>\S+)$`}},
+		Steps:   []Step{{Send: `SNAP.{addr}\r\n`, Expect: `^\x06$`}, {Send: `\x05`, Expect: `^(?P<value>[^|]+)\|(?P<status>[a-z])$`}},
 		Address: "1",
-		Status:  map[string]Status{"0": StatusOK, "1": StatusUnderRange},
+		Status:  map[string]Status{"v": StatusOK, "u": StatusUnderRange},
 	})
 	for i := range 3 {
 		r, err := d.Read(context.Background())
@@ -50,10 +51,10 @@ func TestASCIIHandshakeThroughPty(t *testing.T) {
 
 // One query answered with three channels feeds three gauges.
 func TestASCIIMultiGaugeThroughPty(t *testing.T) {
-	inst := startInstrument(t, lineAnswer(func(string) string { return "1,0,5.0E+02;2,0,2.1E-02;3,2,1.0E+03\r\n" }))
+	inst := startInstrument(t, lineAnswer(func(string) string { return "[1]5.0E+02/fine [2]2.1E-02/fine [3]1.0E+03/over\r\n" }))
 	d := ptyASCII(t, inst, ASCIIOptions{
-		Steps:  []Step{{Send: `ALL\r`, Expect: `(?P<gauge>\d),(?P<status>\d),(?P<value>[^;]+)`}},
-		Status: map[string]Status{"0": StatusOK, "2": StatusOverRange},
+		Steps:  []Step{{Send: `EACH\r`, Expect: `\[(?P<gauge>\d)\](?P<value>[^/]+)/(?P<status>[a-z]+)`}},
+		Status: map[string]Status{"fine": StatusOK, "over": StatusOverRange},
 	})
 	all, err := d.ReadAll(context.Background())
 	if err != nil {
@@ -68,12 +69,16 @@ func TestASCIIMultiGaugeThroughPty(t *testing.T) {
 }
 
 // Checksum errors and garbage are reported, and the next good reply reads.
+// An invented bus instrument: "!<addr>/PEEK/<cs>" gets "!<addr>/<value>/<cs>",
+// the sum8 covering everything after the '!'. By hand, with the ASCII codes
+// of RFC 20: "01/PEEK/" = 30+31+2F+50+45+45+4B+2F = 0x1E4, so E4;
+// "01/+2.0E-3/" = 30+31+2F+2B+32+2E+30+45+2D+33+2F = 0x21F, so 1F.
 func TestASCIIBadRepliesThroughPty(t *testing.T) {
-	replies := []string{"=01+2.0E-3*00\r\n", "\x00\xff#!garbage\r\n", "=01+2.0E-3*" + sumHex("01+2.0E-3*") + "\r\n"}
+	replies := []string{"!01/+2.0E-3/00\r\n", "\x00\xff#!garbage\r\n", "!01/+2.0E-3/1F\r\n"}
 	n := 0
 	inst := startInstrument(t, lineAnswer(func(string) string { n++; return replies[(n-1)%len(replies)] }))
 	d := ptyASCII(t, inst, ASCIIOptions{
-		Steps:    []Step{{Send: `#{addr}RD{cs}\r`, Expect: `^={addr}(?P<value>[^*]+)\*(?P<cs>[0-9A-F]{2})$`}},
+		Steps:    []Step{{Send: `!{addr}/PEEK/{cs}\r`, Expect: `^!{addr}/(?P<value>[^/]+)/(?P<cs>[0-9A-F]{2})$`}},
 		Address:  "01",
 		Checksum: &Checksum{Kind: "sum8", Skip: 1},
 	})
@@ -86,13 +91,7 @@ func TestASCIIBadRepliesThroughPty(t *testing.T) {
 			t.Errorf("read %d: err = %v, want %q", i, err, want)
 		}
 	}
-	if got := string(inst.requests()[0]); got != "#01RDF7\r" {
-		t.Errorf("instrument heard %q, want #01RDF7\\r", got)
+	if got := string(inst.requests()[0]); got != "!01/PEEK/E4\r" {
+		t.Errorf("instrument heard %q, want !01/PEEK/E4\\r", got)
 	}
-}
-
-func sumHex(s string) string {
-	const digits = "0123456789ABCDEF"
-	v := Sum8([]byte(s))
-	return string([]byte{digits[v>>4], digits[v&15]})
 }

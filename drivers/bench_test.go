@@ -26,7 +26,7 @@ func benchRead(b *testing.B, d drivers.Driver) {
 }
 
 func BenchmarkASCIIExchange(b *testing.B) {
-	d, err := drivers.NewASCII(fixedLink("P=1.23E-04,0\r\n"), drivers.Options{Gauge: "g", ASCII: simpleExchange})
+	d, err := drivers.NewASCII(fixedLink("v=1.23E-04;s=fine\r\n"), drivers.Options{Gauge: "g", ASCII: simpleExchange})
 	if err != nil {
 		b.Fatal(err)
 	}
@@ -34,7 +34,7 @@ func BenchmarkASCIIExchange(b *testing.B) {
 }
 
 func BenchmarkASCIIChecksumExchange(b *testing.B) {
-	reply := "=01+1.5E-3*" + sum8Hex("01+1.5E-3*") + "\r\n"
+	reply := "!01/+1.5E-3/23\r\n" // the sum worked out in TestASCIIChecksumSentAndVerified
 	d, err := drivers.NewASCII(fixedLink(reply), drivers.Options{Gauge: "g", ASCII: summed})
 	if err != nil {
 		b.Fatal(err)
@@ -43,8 +43,8 @@ func BenchmarkASCIIChecksumExchange(b *testing.B) {
 }
 
 func BenchmarkASCIIThreeGaugeReply(b *testing.B) {
-	o := drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "ALL\r", Expect: `(?P<gauge>\d)=(?P<value>[^,]+)`}}}
-	d, err := drivers.NewASCII(fixedLink("1=1.2E-3,2=4.0E-6,3=9.9E+2\r\n"), drivers.Options{Gauge: "g", ASCII: o})
+	o := drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "EACH\r", Expect: `(?P<gauge>[a-z]):(?P<value>\S+)`}}}
+	d, err := drivers.NewASCII(fixedLink("a:1.2E-3 b:4.0E-6 c:9.9E+2\r\n"), drivers.Options{Gauge: "g", ASCII: o})
 	if err != nil {
 		b.Fatal(err)
 	}

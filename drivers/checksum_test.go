@@ -42,32 +42,44 @@ func TestSumAndXOR(t *testing.T) {
 	if got := drivers.XOR8([]byte("123456789")); got != 0x31 {
 		t.Errorf("XOR8 = %02X, want 31", got)
 	}
+	// Invented frames, by hand from the ASCII codes of RFC 20. Sum:
+	// "01/PEEK/" = 30+31+2F+50+45+45+4B+2F = 0x1E4, so E4. Exclusive-or of
+	// "READ 1 ~", running: R 52, E 45 → 17, A 41 → 56, D 44 → 12, ' ' 20 → 32,
+	// '1' 31 → 03, ' ' 20 → 23, '~' 7E → 5D.
+	if got := drivers.Sum8([]byte("01/PEEK/")); got != 0xE4 {
+		t.Errorf("Sum8(01/PEEK/) = %02X, want E4", got)
+	}
+	if got := drivers.XOR8([]byte("READ 1 ~")); got != 0x5D {
+		t.Errorf("XOR8(READ 1 ~) = %02X, want 5D", got)
+	}
 }
 
-// An addressed instrument with a start character that is not summed:
-// "#01RD" sums (without '#') to 0x30+0x31+0x52+0x44 = 0xF7.
+// An invented addressed instrument with a start character that is not
+// summed: "!<addr>/PEEK/<cs>" gets "!<addr>/<value>/<cs>". By hand, with the
+// ASCII codes of RFC 20, "!01/PEEK/" sums (without '!') to
+// 30+31+2F+50+45+45+4B+2F = 0x1E4, so E4.
 var summed = drivers.ASCIIOptions{
-	Steps:    []drivers.Step{{Send: `#{addr}RD{cs}\r`, Expect: `^={addr}(?P<value>[^*]+)\*(?P<cs>[0-9A-Fa-f]{2})$`}},
+	Steps:    []drivers.Step{{Send: `!{addr}/PEEK/{cs}\r`, Expect: `^!{addr}/(?P<value>[^/]+)/(?P<cs>[0-9A-Fa-f]{2})$`}},
 	Address:  "01",
 	Checksum: &drivers.Checksum{Kind: "sum8", Skip: 1},
 }
 
 func TestASCIIChecksumSentAndVerified(t *testing.T) {
-	// reply "=01+1.5E-3*" summed from byte 1: "01+1.5E-3*" ... the cs group
-	// covers bytes 1 up to the group, i.e. "01+1.5E-3*".
-	reply := "=01+1.5E-3*" + sum8Hex("01+1.5E-3*") + "\r\n"
+	// The reply's sum covers byte 1 up to the cs group, "01/+1.5E-3/":
+	// 30+31+2F+2B+31+2E+35+45+2D+33+2F = 0x223, so 23.
+	reply := "!01/+1.5E-3/23\r\n"
 	link := driverstest.Lines(reply)
 	r, err := newASCII(t, link, summed).Read(context.Background())
 	if err != nil || r.Raw != 1.5e-3 {
 		t.Fatalf("Read = %+v, %v; want 1.5E-3", r, err)
 	}
-	if got := string(link.Sent()[0]); got != "#01RDF7\r" {
-		t.Errorf("sent %q, want %q", got, "#01RDF7\r")
+	if got := string(link.Sent()[0]); got != "!01/PEEK/E4\r" {
+		t.Errorf("sent %q, want %q", got, "!01/PEEK/E4\r")
 	}
 }
 
 func TestASCIIChecksumMismatch(t *testing.T) {
-	_, err := newASCII(t, driverstest.Lines("=01+1.5E-3*00\r\n"), summed).Read(context.Background())
+	_, err := newASCII(t, driverstest.Lines("!01/+1.5E-3/00\r\n"), summed).Read(context.Background())
 	if err == nil || !strings.Contains(err.Error(), "checksum mismatch") {
 		t.Fatalf("err = %v, want a checksum mismatch", err)
 	}
@@ -86,8 +98,4 @@ func TestASCIICRCRaw(t *testing.T) {
 	if got := string(link.Sent()[0]); got != "123456789\x37\x4B" {
 		t.Errorf("sent %q, want the CRC low byte first", got)
 	}
-}
-
-func sum8Hex(s string) string {
-	return strings.ToUpper(string("0123456789abcdef"[drivers.Sum8([]byte(s))>>4]) + string("0123456789abcdef"[drivers.Sum8([]byte(s))&15]))
 }

@@ -23,15 +23,15 @@ func wantProblems(t *testing.T, what string, err error, want ...string) {
 func TestASCIIOptionsReportEveryProblem(t *testing.T) {
 	err := drivers.ASCIIOptions{
 		Steps: []drivers.Step{
-			{Send: `?{addr}\q`, Expect: `(`},
-			{Send: "X{cs}", Expect: `^(?P<status>\d)$`, Until: "ab"},
+			{Send: `ASK{addr}\q`, Expect: `(`},
+			{Send: "ASK{cs}", Expect: `^(?P<status>[a-z]+)$`, Until: "ab"},
 			{},
 		},
 		Checksum: &drivers.Checksum{Kind: "md5"},
 		Status:   nil,
 	}.Validate()
 	wantProblems(t, "bad options", err,
-		`exchange[0].send: "?{addr}\\q": unknown escape \q`,
+		`exchange[0].send: "ASK{addr}\\q": unknown escape \q`,
 		"exchange[0].expect: error parsing regexp",
 		"exchange[1].until: want exactly one byte",
 		"exchange[1].expect: has a status group but no (?P<value>...) group",
@@ -41,11 +41,11 @@ func TestASCIIOptionsReportEveryProblem(t *testing.T) {
 		"status: the reply has a status group",
 	)
 	wantProblems(t, "no steps", drivers.ASCIIOptions{}.Validate(), "exchange: no steps")
-	wantProblems(t, "addr without address", drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "{addr}?", Expect: `(?P<value>.+)`}}}.Validate(),
+	wantProblems(t, "addr without address", drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "{addr}ASK", Expect: `(?P<value>.+)`}}}.Validate(),
 		"exchange[0].send: uses {addr} but no address is set")
-	wantProblems(t, "cs without checksum", drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "?{cs}", Expect: `(?P<value>.+)(?P<cs>..)`}}}.Validate(),
+	wantProblems(t, "cs without checksum", drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "ASK{cs}", Expect: `(?P<value>.+)(?P<cs>..)`}}}.Validate(),
 		"exchange[0].send: uses {cs} but no checksum", "exchange[0].expect: has a (?P<cs>...) group but no checksum")
-	wantProblems(t, "unused checksum", drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "?", Expect: `(?P<value>.+)`}},
+	wantProblems(t, "unused checksum", drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "ASK", Expect: `(?P<value>.+)`}},
 		Checksum: &drivers.Checksum{Kind: "xor8"}}.Validate(), "checksum: set, but no step")
 }
 
@@ -77,7 +77,7 @@ func TestLinkConfigsValidate(t *testing.T) {
 }
 
 func TestUnescape(t *testing.T) {
-	for in, want := range map[string]string{`?P\r\n`: "?P\r\n", `\x05`: "\x05", `a\\b`: `a\b`, `\t\0`: "\t\x00", "plain\r": "plain\r"} {
+	for in, want := range map[string]string{`SHOW\r\n`: "SHOW\r\n", `\x05`: "\x05", `a\\b`: `a\b`, `\t\0`: "\t\x00", "plain\r": "plain\r"} {
 		got, err := drivers.Unescape(in)
 		if err != nil || string(got) != want {
 			t.Errorf("Unescape(%q) = %q, %v; want %q", in, got, err, want)

@@ -59,12 +59,12 @@ func FuzzDecodeRegisters(f *testing.F) {
 }
 
 func FuzzASCIIReply(f *testing.F) {
-	for _, s := range []string{"P=1.23E-04,0\r\n", "P= 7.5E+02,2\r\n", "P=5.0-4,1\r\n", "P=,0\r\n", "\x15\r\n", "P=1,9\r\n", "garbage"} {
+	for _, s := range []string{"a:1.23E-04/fine\r\n", "a: 7.5E+02/over b:3E-6/fine\r\n", "a:5.0-4/under\r\n", "a:/fine\r\n", "\x15\r\n", "a:1/weird\r\n", "garbage"} {
 		f.Add(s)
 	}
 	o := drivers.ASCIIOptions{
-		Steps:  []drivers.Step{{Send: "?P\r", Expect: `(?P<gauge>\w)=(?P<value>[^,]*),(?P<status>\d)`}},
-		Status: map[string]drivers.Status{"0": drivers.StatusOK, "1": drivers.StatusUnderRange, "2": drivers.StatusOverRange},
+		Steps:  []drivers.Step{{Send: "EACH\r", Expect: `(?P<gauge>\w):(?P<value>[^/]*)/(?P<status>[a-z]+)`}},
+		Status: map[string]drivers.Status{"fine": drivers.StatusOK, "under": drivers.StatusUnderRange, "over": drivers.StatusOverRange},
 	}
 	f.Fuzz(func(t *testing.T, reply string) {
 		d, err := drivers.NewASCII(driverstest.Lines(reply), drivers.Options{Gauge: "g", ASCII: o})

@@ -70,7 +70,7 @@ func (o ModbusOptions) Validate() error {
 		errs = append(errs, fmt.Errorf("status_register: a %s has no status register", o.Table))
 	}
 	if o.StatusRegister != nil && len(o.Status) == 0 {
-		errs = append(errs, errors.New(`status: map the status register's codes, e.g. status: {"0": ok, "1": under-range, "2": over-range, "3": sensor-fault}`))
+		errs = append(errs, errors.New(`status: map the status register's codes, e.g. status: {"1": ok, "2": under-range, "4": over-range, "8": sensor-fault}`))
 	}
 	return errors.Join(errs...)
 }

@@ -216,7 +216,7 @@ func TestModbusRTUThroughPty(t *testing.T) {
 func TestModbusStatusRegisterAndNaN(t *testing.T) {
 	bank := newBank()
 	bank.setFloat(0, 7.5e-4)
-	bank.holding[100] = 2
+	bank.holding[100] = 4                             // bit 2 of invented status flags: over-range
 	bank.holding[4], bank.holding[5] = 0x7FC0, 0x0000 // float32 quiet NaN (IEEE 754)
 	addr := freeAddr(t)
 	srv := startTCPServer(t, addr, bank)
@@ -227,10 +227,10 @@ func TestModbusStatusRegisterAndNaN(t *testing.T) {
 	}
 	defer l.Close()
 	reg := uint16(100)
-	codes := map[string]Status{"0": StatusOK, "2": StatusOverRange}
+	codes := map[string]Status{"1": StatusOK, "4": StatusOverRange}
 	r, err := readGauge(t, l, ModbusOptions{Table: "holding", Address: 0, Type: "float32", StatusRegister: &reg, Status: codes})
 	if err != nil || r.Status != StatusOverRange {
-		t.Errorf("status code 2: got %v, %v; want over-range", r.Status, err)
+		t.Errorf("status code 4: got %v, %v; want over-range", r.Status, err)
 	}
 	bank.mu.Lock()
 	bank.holding[100] = 9

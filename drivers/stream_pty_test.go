@@ -11,18 +11,18 @@ import (
 
 func TestSerialExchangeThroughPty(t *testing.T) {
 	inst := startInstrument(t, lineAnswer(func(req string) string {
-		if req == "?P\r" {
-			return "P=1.23E-04\r\n"
+		if req == "SHOW\r" {
+			return "v=1.23E-04\r\n"
 		}
-		return "?\r\n"
+		return "what\r\n"
 	}))
 	l := openTestSerial(t, inst.path(), 300*time.Millisecond)
-	got, err := l.Exchange(context.Background(), []byte("?P\r"), '\n')
+	got, err := l.Exchange(context.Background(), []byte("SHOW\r"), '\n')
 	if err != nil {
 		t.Fatalf("Exchange: %v", err)
 	}
-	if string(got) != "P=1.23E-04\r\n" {
-		t.Errorf("reply = %q, want %q", got, "P=1.23E-04\r\n")
+	if string(got) != "v=1.23E-04\r\n" {
+		t.Errorf("reply = %q, want %q", got, "v=1.23E-04\r\n")
 	}
 	if s := l.Stats(); !s.Up || s.Timeouts != 0 {
 		t.Errorf("stats = %+v, want up with no timeouts", s)

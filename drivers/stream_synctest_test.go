@@ -129,9 +129,9 @@ func TestSilentTCPPeerIsReopened(t *testing.T) {
 }
 
 func BenchmarkStreamLinkExchange(b *testing.B) {
-	p := &memPort{reply: []byte("P=1.23E-04,0\r\n")}
+	p := &memPort{reply: []byte("v=1.23E-04;s=fine\r\n")}
 	l := newStreamLink("bench", "/dev/fake", time.Second, Backoff{}, nil, func(context.Context) (port, error) { return p, nil })
-	req := []byte("?P\r")
+	req := []byte("SHOW\r")
 	ctx := context.Background()
 	b.ReportAllocs()
 	for b.Loop() {
