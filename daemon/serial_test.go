@@ -13,10 +13,12 @@ import (
 	"time"
 
 	"github.com/creack/pty"
+
+	"holdfast/drivers"
 )
 
 // fakeController plays a two-channel instrument of our own invention on a
-// pty master: "?A\r" answers every channel, "1=<p>,2=<p>\r\n", in mbar.
+// pty master: "BOTH\r" answers every channel, "L1:<p> L2:<p>\r\n", in mbar.
 func fakeController(t *testing.T, link string, p1, p2 *float64, mu *sync.Mutex) (stop func()) {
 	t.Helper()
 	master, slave, err := pty.Open()
@@ -37,12 +39,12 @@ func fakeController(t *testing.T, link string, p1, p2 *float64, mu *sync.Mutex) 
 			if err != nil {
 				return
 			}
-			if strings.TrimSpace(q) != "?A" {
-				fmt.Fprint(master, "ERR\r\n")
+			if strings.TrimSpace(q) != "BOTH" {
+				fmt.Fprint(master, "what?\r\n")
 				continue
 			}
 			mu.Lock()
-			fmt.Fprintf(master, "1=%.2E,2=%.2E\r\n", *p1, *p2)
+			fmt.Fprintf(master, "L1:%.2E L2:%.2E\r\n", *p1, *p2)
 			mu.Unlock()
 		}
 	}()
@@ -68,7 +70,7 @@ gauges:
   rough:
     link: bus
     driver: ascii
-    exchange: [{send: "?A\r", expect: '(?P<gauge>\d)=(?P<value>[^,]+)'}]
+    exchange: [{send: "BOTH\r", expect: 'L(?P<gauge>\d):(?P<value>\S+)'}]
     channel: "1"
     raw_unit: mbar
     kind: pressure
@@ -118,4 +120,52 @@ func waitFor(t *testing.T, limit time.Duration, what string, cond func() bool) {
 		}
 	}
 	t.Fatalf("timed out waiting for %s", what)
+}
+
+// The RS-485 example of deploy/examples/bench.yaml works as shipped: its
+// foreline exchange, checksum and status map read an instrument playing
+// the invented protocol its comment describes. The sums, by hand from the
+// ASCII codes of RFC 20, cover the bytes after '<' up to the digits:
+// "02|fetch|" = 30+32+7C+66+65+74+63+68+7C = 0x364, so 64;
+// "02|3.2E-01|good|" = 30+32+7C+33+2E+32+45+2D+30+31+7C (0x2C0)
+// + 67+6F+6F+64+7C (0x225) = 0x4E5, so E5.
+func TestBenchExampleRS485Exchange(t *testing.T) {
+	master, slave, err := pty.Open()
+	if err != nil {
+		t.Skipf("no pty here: %v", err)
+	}
+	heard := make(chan string, 1)
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		q, err := bufio.NewReader(master).ReadString('\r')
+		heard <- q
+		if err == nil && q == "<02|fetch|64>\r" {
+			fmt.Fprint(master, "<02|3.2E-01|good|E5>\r\n")
+		}
+	}()
+	defer func() { master.Close(); slave.Close(); <-done }()
+	cfg, err := LoadConfig(filepath.Join("..", "deploy", "examples", "bench.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg.Links["rs485"].Serial.Device = slave.Name()
+	p, err := OpenProbe(cfg, "foreline", nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer p.Close()
+	res := p.Read(context.Background())
+	select {
+	case q := <-heard: // sent before any reply, so here once Read has returned
+		if q != "<02|fetch|64>\r" {
+			t.Errorf("instrument heard %q, want <02|fetch|64>\\r", q)
+		}
+	default:
+		t.Error("the instrument heard no request")
+	}
+	// 3.2E-01 mbar = 32 Pa (REFERENCES.md §1b: 1 mbar = 100 Pa).
+	if res.Err != nil || res.Reading.Raw != 0.32 || res.Reading.Status != drivers.StatusOK || !near(res.Sample.Value, 32) {
+		t.Errorf("foreline = %+v, %v; want 3.2E-01 mbar (32 Pa) ok", res, res.Err)
+	}
 }
