@@ -132,7 +132,7 @@ type GaugeConfig struct {
 	FullScale  Pressure `yaml:"full_scale"` // cdg
 	Digits     int      `yaml:"digits"`     // significant digits the instrument prints
 	Where      string   `yaml:"where"`      // thermocouple: wall | ambient
-	Protect    Pressure `yaml:"protect"`    // ion: switches itself off above this; default 1e-2 Pa
+	Protect    Pressure `yaml:"protect"`    // ion: switches itself off above this; default 1e-1 Pa
 }
 
 // Defaults for optional settings.
