@@ -99,7 +99,7 @@ func ThermalGasFactor(gas string) (float64, error) {
 	}
 	c, ok := thermalFactor[n]
 	if !ok {
-		return 0, fmt.Errorf("no thermal-conductivity gauge factor for %s (known: %s); give the factor or a curve yourself",
+		return 0, fmt.Errorf("no thermal-conductivity gauge factor for %s (known: %s); give the factor yourself",
 			n, strings.Join(slices.Sorted(maps.Keys(thermalFactor)), ", "))
 	}
 	return c, nil
