@@ -140,9 +140,9 @@ func TestCDGLinear(t *testing.T) {
 }
 
 // An ionisation gauge reads only in high vacuum: off above its protect
-// pressure (by default the top of a hot-cathode gauge's range, 1e-3 Torr ≈
-// 0.13 Pa in the CRC Handbook, rounded to 1e-1 Pa; REFERENCES.md §8), back
-// on below it, under-range below its floor.
+// pressure (by default the top of a hot-cathode gauge's range, about
+// 1e-3 Torr ≈ 0.13 Pa, from memory, rounded to 1e-1 Pa; REFERENCES.md §8),
+// back on below it, under-range below its floor.
 func TestIonGaugeProtects(t *testing.T) {
 	for _, c := range []struct {
 		p    float64

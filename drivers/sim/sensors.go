@@ -95,11 +95,10 @@ func (s cdg) measure(st State, r *rand.Rand) (float64, drivers.Status) {
 
 // Ionisation gauge: emission switches off above the protect pressure and
 // back on below it. The default is the top of a hot-cathode (Bayard–Alpert)
-// gauge's range, about 1e-3 Torr ≈ 0.13 Pa (CRC Handbook of Chemistry and
-// Physics, the table of vacuum-gauge ranges beside the ionisation-gauge
-// sensitivities; REFERENCES.md §8), rounded down to 1e-1 Pa. Below
-// ionFloor the reading is under-range (the order of a hot-cathode gauge's
-// lower limit, from memory).
+// gauge's range, about 1e-3 Torr ≈ 0.13 Pa (a CRC Handbook of Chemistry and
+// Physics range table, not re-read: from memory; REFERENCES.md §8), rounded
+// down to 1e-1 Pa. Below ionFloor the reading is under-range (the order of
+// a hot-cathode gauge's lower limit, from memory).
 const (
 	ionDefaultProtect = 1e-1 // Pa
 	ionFloor          = 1e-8 // Pa
