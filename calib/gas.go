@@ -29,25 +29,65 @@ func GasName(s string) (string, error) {
 
 // thermalFactor holds correction factors C for thermal-conductivity (Pirani)
 // gauges calibrated for N₂/air: p_true = C·p_indicated, valid in the linear
-// range only (about 1e-2 to 1 mbar). Source: makers' manuals, "mean values",
-// two independent manuals agreeing on He, H₂, CO₂ and H₂O (REFERENCES.md §5a,
-// status C2). The factors depend on the gauge's design; above about 1–10 mbar
-// no single factor works (argon reads far low near atmosphere).
+// range only (about 1e-2 to 1 mbar, 1 to 100 Pa). They are typical values,
+// from memory (the same numbers appear in several makers' tables, which are
+// not sources here; REFERENCES.md §5a); no handbook or standard tabulates
+// them, because they depend on the sensor's design. Above about 1–10 mbar
+// no single factor works (argon reads far low near atmosphere). Use the
+// gauge maker's curve, or a factor measured on the gauge, where it matters.
 var thermalFactor = map[string]float64{
 	"air": 1.0, "O2": 1.0, "CO": 1.0, "N2": 1.0,
 	"He": 0.8, "Ne": 1.4, "Ar": 1.7, "Kr": 2.4, "Xe": 3, "H2": 0.5, "CO2": 0.9, "H2O": 0.5,
 }
 
+// ThermalSource says where thermalFactor's numbers come from.
+const ThermalSource = "typical value for an N2-calibrated thermal-conductivity gauge in its linear range (about 1 to 100 Pa), from memory; factors depend on the sensor's design: use the gauge maker's curve"
+
 // ionSensitivity holds relative sensitivities S/S(N₂) of Bayard–Alpert
 // ionisation gauges: p_true = p_indicated/S. Source: CRC Handbook of
 // Chemistry and Physics, "Relative sensitivity of Bayard-Alpert ionization
-// gauges to various gases" (P. Redhead; mean of 12 experimenters;
-// REFERENCES.md §8, status C); air from R. L. Summers, NASA TN D-5285 (1969),
-// status C2. Individual gauges differ by up to ±15 %.
+// gauges to various gases" (P. Redhead; the mean of 12 experimenters;
+// REFERENCES.md §8, status C). Air is not in the table: 1.0 is the mean
+// over its mole fractions (N₂ 0.781, O₂ 0.209, Ar 0.009, from memory),
+// 0.781·1.00 + 0.209·0.96 + 0.009·1.4 = 0.995 (D), rounded. Individual
+// gauges differ by up to ±15 %.
 var ionSensitivity = map[string]float64{
 	"N2": 1.00, "He": 0.18, "Ne": 0.31, "Ar": 1.4, "Kr": 1.9, "Xe": 2.7, "H2": 0.43,
 	"O2": 0.96, "CO": 1.0, "CO2": 1.4, "H2O": 0.93, "CH4": 1.6, "SF6": 2.3, "Hg": 3.5,
 	"C2H6": 2.6, "C3H8": 3.5, "C4H10": 4.3, "air": 1.0,
+}
+
+// IonSource says where ionSensitivity's numbers come from.
+const IonSource = "relative sensitivity of a Bayard-Alpert gauge, mean of 12 experimenters, CRC Handbook of Chemistry and Physics (P. Redhead); single gauges differ by up to 15 %"
+
+// A GasFactor is a gas correction with where its number comes from:
+// p_true = Factor·p_indicated.
+type GasFactor struct {
+	Gas    string  // canonical name (GasName)
+	Factor float64 // multiplies the indicated pressure
+	Source string
+}
+
+// ThermalGas returns the gas factor of a thermal-conductivity gauge
+// calibrated for N₂ reading gas.
+func ThermalGas(gas string) (GasFactor, error) {
+	c, err := ThermalGasFactor(gas)
+	if err != nil {
+		return GasFactor{}, err
+	}
+	n, _ := GasName(gas)
+	return GasFactor{Gas: n, Factor: c, Source: ThermalSource}, nil
+}
+
+// IonGas returns the gas factor (1/S) of a hot-cathode ionisation gauge
+// calibrated for N₂ reading gas.
+func IonGas(gas string) (GasFactor, error) {
+	s, err := IonSensitivity(gas)
+	if err != nil {
+		return GasFactor{}, err
+	}
+	n, _ := GasName(gas)
+	return GasFactor{Gas: n, Factor: 1 / s, Source: fmt.Sprintf("1/S with S = %g: %s", s, IonSource)}, nil
 }
 
 // ThermalGasFactor returns the correction factor C for a thermal-conductivity
@@ -59,7 +99,7 @@ func ThermalGasFactor(gas string) (float64, error) {
 	}
 	c, ok := thermalFactor[n]
 	if !ok {
-		return 0, fmt.Errorf("no thermal-conductivity gauge factor for %s (known: %s); give the factor or a curve yourself",
+		return 0, fmt.Errorf("no thermal-conductivity gauge factor for %s (known: %s); give the factor yourself",
 			n, strings.Join(slices.Sorted(maps.Keys(thermalFactor)), ", "))
 	}
 	return c, nil

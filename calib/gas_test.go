@@ -2,11 +2,13 @@ package calib
 
 import (
 	"math"
+	"strings"
 	"testing"
 )
 
 func TestGasCorrections(t *testing.T) {
-	// REFERENCES.md §5b (makers' mean values, C2): Ar and He, 0.10 mbar indicated.
+	// REFERENCES.md §5b: Ar C = 1.7 and He C = 0.8, typical values from
+	// memory (§5a); 0.10 mbar (10 Pa) indicated → 0.17 and 0.08 mbar.
 	for _, tc := range []struct {
 		gas       string
 		ind, want float64
@@ -16,7 +18,8 @@ func TestGasCorrections(t *testing.T) {
 			t.Errorf("%s: factor %g, %v; want %g Pa from %g", tc.gas, c, err, tc.want, tc.ind)
 		}
 	}
-	// REFERENCES.md §8a (CRC Handbook, C): Ar S = 1.4, 5.0e-6 Pa → 3.5714e-6 Pa; He 1e-6 mbar → 5.5556e-6 mbar.
+	// REFERENCES.md §8a (CRC Handbook, C): Ar S = 1.4, 5.0e-6 Pa → 5.0e-6/1.4 = 3.5714e-6 Pa;
+	// He S = 0.18, 1e-4 Pa → 1e-4/0.18 = 5.5556e-4 Pa.
 	for _, tc := range []struct {
 		gas       string
 		ind, want float64
@@ -46,5 +49,25 @@ func TestGasCurve(t *testing.T) {
 	}
 	if _, err := NewGasCurve([]float64{1, 10}, []float64{5, 4}); err == nil {
 		t.Error("falling curve accepted")
+	}
+}
+
+// The factors the daemon applies carry their source; an ionisation gauge's
+// factor is 1/S (CRC Handbook, Ar S = 1.4: 1/1.4 = 0.714286).
+func TestGasFactorSources(t *testing.T) {
+	th, err := ThermalGas("argon")
+	if err != nil || th.Gas != "Ar" || th.Factor != 1.7 || !strings.Contains(th.Source, "from memory") {
+		t.Errorf("ThermalGas(argon) = %+v, %v; want Ar, 1.7, a source saying from memory", th, err)
+	}
+	ion, err := IonGas("Ar")
+	if err != nil || math.Abs(ion.Factor-0.714286) > 1e-6 || !strings.Contains(ion.Source, "CRC Handbook") {
+		t.Errorf("IonGas(Ar) = %+v, %v; want factor 0.714286 from the CRC Handbook", ion, err)
+	}
+	for _, gas := range []string{"N2", "nitrogen", "air"} {
+		for _, f := range []func(string) (GasFactor, error){ThermalGas, IonGas} {
+			if g, err := f(gas); err != nil || g.Factor != 1 {
+				t.Errorf("%s: factor %g, %v; want 1 (the calibration gas)", gas, g.Factor, err)
+			}
+		}
 	}
 }

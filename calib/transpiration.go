@@ -39,15 +39,19 @@ func MolecularRatio(gaugeC, chamberC float64) (float64, error) {
 // mass M (kg/mol).
 type SetinaGas struct{ A, B, C, Eta, M float64 }
 
-// SetinaGases are the constants by gas. A, B, C: Šetina 1999 as transcribed
-// in a public script (REFERENCES.md §6, C2). Viscosity: N₂ 1.777e-5 Pa·s
-// from the same source (C2); He, Ar, H₂ near 20 °C from memory. Molar
-// masses: standard atomic weights.
+// SetinaGases are the constants by gas. A, B, C: J. Šetina, Metrologia 36
+// (1999) 623, eq. 5, as transcribed in a public script (the paper itself
+// not read; REFERENCES.md §6, C2). Viscosity: CRC Handbook of Chemistry and
+// Physics, "Viscosity of gases" (M. L. Huber and A. H. Harvey), η at 300 K
+// (C); it enters only through the transition pressure p*, so its rise of
+// about 0.2 %/K over a heated gauge's range moves the correction by far
+// less than the constants' own spread. Molar masses: standard atomic
+// weights.
 var SetinaGases = map[string]SetinaGas{
-	"N2": {0.0275, 0.321, 0.322, 1.777e-5, 0.0280134},
-	"He": {0.0318, 0.252, 0.176, 1.96e-5, 0.0040026}, // viscosity from memory
-	"Ar": {0.0262, 0.275, 0.272, 2.23e-5, 0.039948},  // viscosity from memory
-	"H2": {0.0318, 0.319, 0.180, 0.88e-5, 0.0020159}, // viscosity from memory
+	"N2": {0.0275, 0.321, 0.322, 17.9e-6, 0.0280134},
+	"He": {0.0318, 0.252, 0.176, 19.9e-6, 0.0040026},
+	"Ar": {0.0262, 0.275, 0.272, 22.7e-6, 0.039948},
+	"H2": {0.0318, 0.319, 0.180, 8.9e-6, 0.0020159},
 }
 
 const gasConstant = 8.314462618 // J/(mol·K), CRC Handbook (exact in the 2019 SI)
@@ -103,8 +107,10 @@ func (tr Transpiration) Setina(gas string, pGauge float64) (float64, error) {
 //	p1/p2 = 1 + (√(T1/T2) − 1)/(A·X² + B·X + C·√X + 1),  X = 2·p2·d/(T1 + T2)
 //
 // with p2 in Torr, d in mm, T in K, A = 1.2e6·φ², B = 1.0e3·φ, C = 14·φ^½.
-// The constants and φ (≈ 1 for N₂ and air) are from memory, unconfirmed;
-// Daudé et al. (arXiv 1308.6794) prefer the Šetina form.
+// The constants and φ (≈ 1 for N₂ and air) are from memory, unconfirmed
+// (REFERENCES.md §6), so the daemon does not offer this form; Daudé,
+// Elandaloussi and Janssen (arXiv 1308.6794) also find the Šetina form
+// scales better with the gas.
 func (tr Transpiration) TakaishiSensui(phi, pChamber float64) (float64, error) {
 	tg, tc, err := tr.check()
 	if err != nil {

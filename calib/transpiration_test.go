@@ -15,17 +15,31 @@ func TestMolecularRatio(t *testing.T) {
 	}
 }
 
-// Šetina (Metrologia 36, 1999) with C2 constants for N₂, d = 4.6 mm:
-// REFERENCES.md §6a, ±1e-5.
+// Šetina (Metrologia 36, 1999, eq. 4–5) with its C2 constants for N₂ and
+// Ar, η at 300 K from the CRC Handbook (17.9 and 22.7 µPa·s), d = 4.6 mm:
+// REFERENCES.md §6a (D), ±1e-5. By hand for N₂: T̄ = 305.65 K, c =
+// √(3·8.314462618·305.65/0.0280134) = 521.683 m/s, p* = 17.9e-6·521.683/
+// 4.6e-3 = 2.03003 Pa; at 1 Pa ψ = 0.492604, Aψ² + Bψ + C√ψ = 0.006673 +
+// 0.158126 + 0.225998 = 0.390797, ratio (0.390797 + 1.041768)/1.390797 =
+// 1.030032.
 func TestSetina(t *testing.T) {
-	for _, tc := range []struct{ p, want float64 }{{0.01, 1.04078}, {1, 1.02999}, {10, 1.01048}, {100, 1.00048}} {
-		r, err := heated.Setina("N2", tc.p)
+	for _, tc := range []struct {
+		gas     string
+		p, want float64
+	}{
+		{"N2", 0.01, 1.040782}, {"N2", 1, 1.030032}, {"N2", 10, 1.010539}, {"N2", 100, 1.000487},
+		{"Ar", 1, 1.031680}, {"Ar", 10, 1.012194},
+	} {
+		r, err := heated.Setina(tc.gas, tc.p)
 		if err != nil || math.Abs(r-tc.want) > 1e-5 {
-			t.Errorf("Setina(N2, %g Pa) = %.6f, %v; want %.5f", tc.p, r, err, tc.want)
+			t.Errorf("Setina(%s, %g Pa) = %.6f, %v; want %.6f", tc.gas, tc.p, r, err, tc.want)
 		}
 	}
-	if r, _ := heated.Setina("N2", 1); math.Abs(1/r-0.97089) > 1e-5 {
-		t.Errorf("chamber pressure for 1 Pa = %.5f, want 0.97089", 1/r)
+	if r, _ := heated.Setina("N2", 1); math.Abs(1/r-0.970844) > 1e-5 {
+		t.Errorf("chamber pressure for 1 Pa = %.6f, want 0.970844", 1/r)
+	}
+	if _, err := heated.Setina("CO2", 1); err == nil {
+		t.Error("Setina accepted CO2, which has no constants")
 	}
 }
 

@@ -45,6 +45,9 @@ func (d *Daemon) buildGauges() error {
 	if err := d.wireAmbient(); err != nil {
 		errs = append(errs, err)
 	}
+	if err := d.wireCorrections(); err != nil {
+		errs = append(errs, err)
+	}
 	for _, name := range sortedKeys(byLink) {
 		l := byLink[name]
 		if err := linkFeeds(l); err != nil {

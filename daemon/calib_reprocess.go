@@ -61,6 +61,9 @@ func (d *Daemon) reprocess(req reprocessRequest) (calibstore.Audit, error) {
 	}
 	a := calibstore.Audit{At: now, Action: "reprocess", Gauge: g.name, Calibration: req.Calibration, From: req.From, To: req.To, Status: "started", Note: req.Note}
 	tAt, err := d.ambientTransfers(g, t, req.From, req.To)
+	if err == nil {
+		tAt, err = d.correctedTransfers(g, tAt, req.From, req.To) // gas and transpiration, as live
+	}
 	if err != nil {
 		return calibstore.Audit{}, fmt.Errorf("reprocess %s: %w", g.name, err)
 	}

@@ -112,6 +112,15 @@ type GaugeConfig struct {
 	Calibration *GaugeCalibration `yaml:"calibration"`
 	// Ambient corrects the raw signal for the sensor's ambient temperature.
 	Ambient *AmbientConfig `yaml:"ambient"`
+	// Sensor is what the gauge measures by (pirani, ion, cdg), so that gas:
+	// finds the right table; a simulated gauge's instrument says it.
+	Sensor string `yaml:"sensor"`
+	// Gas is the gas in the chamber, for a gauge whose reading depends on
+	// it; the factor applies to the calibrated value, before storage.
+	Gas *GasConfig `yaml:"gas"`
+	// Transpiration corrects a gauge whose sensor sits at another
+	// temperature than the chamber, after the gas correction.
+	Transpiration *TranspirationConfig `yaml:"transpiration"`
 
 	// Instruments on a serial or TCP link (driver: ascii, scpi or modbus).
 	Exchange   []*StepConfig      `yaml:"exchange"` // ascii: the steps of one read
@@ -132,7 +141,7 @@ type GaugeConfig struct {
 	FullScale  Pressure `yaml:"full_scale"` // cdg
 	Digits     int      `yaml:"digits"`     // significant digits the instrument prints
 	Where      string   `yaml:"where"`      // thermocouple: wall | ambient
-	Protect    Pressure `yaml:"protect"`    // ion: switches itself off above this; default 1e-2 Pa
+	Protect    Pressure `yaml:"protect"`    // ion: switches itself off above this; default 1e-1 Pa
 }
 
 // Defaults for optional settings.

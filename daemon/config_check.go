@@ -91,7 +91,15 @@ func check(cfg *Config, prior []Problem) []Problem {
 		v.alarm(fmt.Sprintf("alarms[%d]", i), a, seen, i)
 	}
 	v.notifiers(cfg)
+	slices.SortStableFunc(cfg.Notes, func(a, b string) int { return cmp.Compare(noteLine(a), noteLine(b)) })
 	return v.probs
+}
+
+// noteLine is the line a note ("LINE: note: ...") is about.
+func noteLine(n string) int {
+	l, _, _ := strings.Cut(n, ":")
+	i, _ := strconv.Atoi(l)
+	return i
 }
 
 func (v *checker) link(name string, l *LinkConfig) {
@@ -203,6 +211,8 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 		v.problem(path, "empty; a gauge needs at least link, driver and kind")
 		return
 	}
+	v.gas(name, g)
+	v.transpiration(name, g)
 	if len(g.Combine) > 0 {
 		v.combined(name, g)
 		return

@@ -55,6 +55,9 @@ type gaugeJSON struct {
 	Raw     *float64  `json:"raw,omitempty"`
 	Value   *float64  `json:"value_si,omitempty"` // Pa or °C
 	Display string    `json:"display,omitempty"`  // in the gauge's configured unit
+	// Gas and Transpiration are the corrections applied to the value.
+	Gas           *gasJSON           `json:"gas,omitempty"`
+	Transpiration *transpirationJSON `json:"transpiration,omitempty"`
 }
 
 func (d *Daemon) apiGauges(w http.ResponseWriter, _ *http.Request) {
@@ -63,6 +66,7 @@ func (d *Daemon) apiGauges(w http.ResponseWriter, _ *http.Request) {
 	for _, g := range d.gauges {
 		v := g.view(now)
 		j := gaugeJSON{Gauge: v.name, Kind: v.kind, Up: v.up && !v.stale}
+		j.Gas, j.Transpiration = g.corr.describe(now)
 		if v.seen {
 			j.Quality, j.At = v.last.Quality.String(), v.last.At
 			if raw := v.last.Raw; !math.IsNaN(raw) && !math.IsInf(raw, 0) {

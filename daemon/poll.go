@@ -39,6 +39,7 @@ type gauge struct {
 	drv  drivers.Driver
 	fed  []*gauge     // gauges whose values come in this gauge's exchange (from:)
 	amb  *ambientComp // ambient-temperature compensation of the raw signal; nil for none
+	corr *correction  // gas and transpiration corrections of the value; nil for none
 	live *gaugeLive   // calibration and combined-gauge state; see calib.go
 
 	mu       sync.Mutex
@@ -189,6 +190,9 @@ func (d *Daemon) sample(g *gauge, r drivers.Reading) (calib.Sample, uint32) {
 		s.Quality = calib.QualityOf(err)
 		if err == nil {
 			s.Value = v
+			if g.corr != nil {
+				s.Value = g.corr.live(d.log, g.name, v, s.At)
+			}
 		}
 	case drivers.StatusOverRange:
 		s.Quality = calib.QualityOverRange

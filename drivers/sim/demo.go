@@ -7,7 +7,8 @@ import "time"
 // a leak and a hold test. At speed 600 its first four hours take 25 s.
 //
 // The plant:
-//   - volume 30 L (a 0.3 m bore, 0.42 m long cylinder, about 0.6 m² of wall);
+//   - volume 30 L (a 0.3 m bore, 0.42 m long cylinder: π·0.3·0.42 + 2·π·0.15²
+//     = 0.396 + 0.141 ≈ 0.54 m² of wall);
 //   - a roughing stage of 5 m³/h (1.39 L/s) with a 0.5 Pa base pressure, the
 //     order of a small two-stage oil-sealed pump (from memory): 3.6 min from
 //     atmosphere to the crossover;
@@ -16,9 +17,9 @@ import "time"
 //     of its speed and a small high-vacuum pump can safely take over
 //     (modelling choice);
 //   - outgassing of 3e-5 Pa·m³/s one hour into the pump-down at 22 °C, falling
-//     as 1/t: 5e-5 Pa·m³/(s·m²) over the wall, within the range of unbaked,
-//     cleaned stainless steel (from memory). Its pressure at one hour is
-//     about 5e-4 Pa;
+//     as 1/t: 3e-5/0.54 ≈ 5.6e-5 Pa·m³/(s·m²) over the wall, within the range
+//     of unbaked, cleaned stainless steel (from memory). Its pressure at one
+//     hour is about 5e-4 Pa;
 //   - the wall follows the heater with a 20 min lag.
 //
 // The timeline (offsets from the start):
@@ -32,8 +33,9 @@ import "time"
 //	3:00      a real leak of 1e-6 Pa·m³/s (1e-5 mbar·L/s) opens
 //	3:30      isolation valve closed for a 5 min hold test: the pressure
 //	          rises almost linearly at about 3.8e-5 Pa/s (leak plus a little
-//	          outgassing over 30 L), so the ionisation gauge switches off near
-//	          the end
+//	          outgassing over 30 L), so the ionisation gauge, set to protect
+//	          itself at 1e-2 Pa (below the 1e-1 Pa top of its range, as an
+//	          operator may choose), switches off near the end
 //	3:35      valve reopened; pumping on to the end
 //
 // Names of the instruments in the timeline match DemoInstruments.
@@ -70,7 +72,7 @@ func DemoInstruments() []InstrumentConfig {
 	return []InstrumentConfig{
 		{Name: "chamber-pirani", Kind: KindPirani},
 		{Name: "chamber-cdg", Kind: KindCDG, FullScale: 0.1 * torr, Digits: 4},
-		{Name: "chamber-ion", Kind: KindIon},
+		{Name: "chamber-ion", Kind: KindIon, Protect: 1e-2},
 		{Name: "wall-tc", Kind: KindThermocouple, Where: "wall"},
 		{Name: "room-tc", Kind: KindThermocouple, Where: "ambient"},
 	}

@@ -45,7 +45,7 @@ type InstrumentConfig struct {
 	FullScale float64        // cdg only, Pa; required
 	HeatLoss  calib.HeatLoss // pirani only; zero means DefaultHeatLoss()
 	Where     string         // thermocouple only: "wall" (default) or "ambient"
-	Protect   float64        // ion only, Pa: emission switches off above this; 0 means 1e-2
+	Protect   float64        // ion only, Pa: emission switches off above this; 0 means 1e-1
 	Timeout   time.Duration  // how long a silent instrument makes Read wait (wall time); 0 means 200 ms
 }
 

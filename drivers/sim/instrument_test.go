@@ -140,12 +140,14 @@ func TestCDGLinear(t *testing.T) {
 }
 
 // An ionisation gauge reads only in high vacuum: off above its protect
-// pressure, back on below it, under-range below its floor.
+// pressure (by default the top of a hot-cathode gauge's range, about
+// 1e-3 Torr ≈ 0.13 Pa, from memory, rounded to 1e-1 Pa; REFERENCES.md §8),
+// back on below it, under-range below its floor.
 func TestIonGaugeProtects(t *testing.T) {
 	for _, c := range []struct {
 		p    float64
 		want drivers.Status
-	}{{1, drivers.StatusOff}, {2e-2, drivers.StatusOff}, {1e-4, drivers.StatusOK}, {1e-10, drivers.StatusUnderRange}} {
+	}{{1, drivers.StatusOff}, {0.2, drivers.StatusOff}, {2e-2, drivers.StatusOK}, {1e-4, drivers.StatusOK}, {1e-10, drivers.StatusUnderRange}} {
 		ch, _ := heldAt(t, c.p)
 		r := mustRead(t, mustInstrument(t, ch, InstrumentConfig{Name: "ion", Kind: KindIon}))
 		if r.Status != c.want {

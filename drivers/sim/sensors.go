@@ -93,12 +93,14 @@ func (s cdg) measure(st State, r *rand.Rand) (float64, drivers.Status) {
 	return u, drivers.StatusOK
 }
 
-// Ionisation gauge: emission switches off above the protect pressure (the
-// usual top of a hot-cathode gauge is about 1e-2 Pa, from memory) and back
-// on below it; below ionFloor the reading is under-range (the order of a
-// hot-cathode gauge's lower limit, from memory).
+// Ionisation gauge: emission switches off above the protect pressure and
+// back on below it. The default is the top of a hot-cathode (Bayard–Alpert)
+// gauge's range, about 1e-3 Torr ≈ 0.13 Pa (a CRC Handbook of Chemistry and
+// Physics range table, not re-read: from memory; REFERENCES.md §8), rounded
+// down to 1e-1 Pa. Below ionFloor the reading is under-range (the order of
+// a hot-cathode gauge's lower limit, from memory).
 const (
-	ionDefaultProtect = 1e-2 // Pa
+	ionDefaultProtect = 1e-1 // Pa
 	ionFloor          = 1e-8 // Pa
 	ionDefaultNoise   = 1e-2
 )
