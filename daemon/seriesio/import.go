@@ -49,10 +49,10 @@ func (e *ImportError) Error() string {
 
 // ImportResult says what an import did.
 type ImportResult struct {
-	Rows       int // data rows in the file
-	Stored     int // samples added to the store
-	Duplicates int // rows identical to a sample already stored, skipped
-	Bad        int // rows that could not be read (skipped with SkipBad)
+	Rows       int         // data rows in the file
+	Stored     int         // samples added to the store
+	Duplicates int         // rows identical to a sample already stored, skipped
+	Bad        int         // rows that could not be read (skipped with SkipBad)
 	BadLines   []LineError // the first 20 bad rows
 }
 
