@@ -53,11 +53,8 @@ type Export struct {
 // keeps one per millisecond), each metric's samples together, and ends
 // with # EOF: the input of promtool tsdb create-blocks-from openmetrics.
 func (e Export) Write(w io.Writer, db *store.DB) (int, error) {
-	if !slices.Contains(Formats, e.Format) {
-		return 0, fmt.Errorf("format %q: want %s", e.Format, strings.Join(Formats, ", "))
-	}
-	if !e.From.Before(e.To) {
-		return 0, fmt.Errorf("from %s is not before to %s", formatTime(e.From), formatTime(e.To))
+	if err := e.Check(); err != nil {
+		return 0, err
 	}
 	bw := bufio.NewWriterSize(w, 64<<10)
 	var n int
@@ -69,6 +66,33 @@ func (e Export) Write(w io.Writer, db *store.DB) (int, error) {
 		n, err = e.rows(bw, db)
 	}
 	return n, errors.Join(err, bw.Flush())
+}
+
+// Check says what is wrong with the export before anything is written.
+func (e Export) Check() error {
+	if !slices.Contains(Formats, e.Format) {
+		return fmt.Errorf("format %q: want %s", e.Format, strings.Join(Formats, ", "))
+	}
+	if !e.From.Before(e.To) {
+		return fmt.Errorf("from %s is not before to %s; swap them or widen the span", formatTime(e.From), formatTime(e.To))
+	}
+	if len(e.Series) == 0 {
+		return errors.New("no gauge to export")
+	}
+	if e.Format != "openmetrics" {
+		return nil
+	}
+	var missing []string
+	for _, s := range e.Series {
+		if _, ok := families[e.Kinds[s]]; !ok {
+			missing = append(missing, s)
+		}
+	}
+	if len(missing) > 0 {
+		return fmt.Errorf("openmetrics: the kind (pressure, temperature or state) of %s is not known, and it decides the metric name; give the daemon's config or a kind for them",
+			strings.Join(missing, ", "))
+	}
+	return nil
 }
 
 // rows writes CSV or JSON lines.
@@ -127,16 +151,6 @@ func writeJSONLine(w *bufio.Writer, series string, p store.Point) error {
 
 // openMetrics writes each metric family's series together.
 func (e Export) openMetrics(w *bufio.Writer, db *store.DB) (int, error) {
-	var missing []string
-	for _, s := range e.Series {
-		if _, ok := families[e.Kinds[s]]; !ok {
-			missing = append(missing, s)
-		}
-	}
-	if len(missing) > 0 {
-		return 0, fmt.Errorf("openmetrics: the kind (pressure, temperature or state) of %s is not known, and it decides the metric name; give the daemon's config or a kind for them",
-			strings.Join(missing, ", "))
-	}
 	order := slices.Clone(e.Series)
 	slices.SortStableFunc(order, func(a, b string) int { return cmp.Compare(families[e.Kinds[a]].name, families[e.Kinds[b]].name) })
 	n, last := 0, ""
