@@ -76,7 +76,7 @@ func cmdExport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	if err != nil {
 		return err
 	}
-	n, err := runExport(ctx, src, stderr, w, gauges, t1, t2, *format, *kind)
+	n, err := runExport(ctx, src, stderr, w, gauges, span{t1, t2, *from, *to}, *format, *kind)
 	if err = done(err); err != nil {
 		return fmt.Errorf("export: %w", err)
 	}
@@ -86,7 +86,7 @@ func cmdExport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	return nil
 }
 
-func runExport(ctx context.Context, src *source, stderr io.Writer, w io.Writer, gauges []string, from, to time.Time, format, kind string) (int, error) {
+func runExport(ctx context.Context, src *source, stderr io.Writer, w io.Writer, gauges []string, sp span, format, kind string) (int, error) {
 	db, err := src.openDirect(stderr)
 	if err != nil {
 		return 0, err
@@ -103,13 +103,13 @@ func runExport(ctx context.Context, src *source, stderr io.Writer, w io.Writer, 
 				kinds[s] = kind
 			}
 		}
-		e := seriesio.Export{Series: names, From: from, To: to, Format: format, Kinds: kinds}
+		e := seriesio.Export{Series: names, From: sp.from, To: sp.to, Format: format, Kinds: kinds}
 		return e.Write(w, db)
 	}
 	if kind != "" {
 		fmt.Fprintln(stderr, "holdfast: --kind is ignored: the daemon knows its gauges' kinds")
 	}
-	v := url.Values{"gauge": gauges, "from": {from.Format(time.RFC3339Nano)}, "to": {to.Format(time.RFC3339Nano)}, "format": {format}}
+	v := sp.values(url.Values{"gauge": gauges, "format": {format}})
 	_, err = src.api.stream(ctx, "GET", "/api/v1/export?"+v.Encode(), "Holdfast-Export-Error", w)
 	return -1, err
 }

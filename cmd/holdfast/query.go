@@ -65,7 +65,7 @@ func cmdQuery(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	if err != nil {
 		return fmt.Errorf("query: --to: %w", err)
 	}
-	res, err := runQuery(ctx, src, stderr, gauges, t1, t2, *points)
+	res, err := runQuery(ctx, src, stderr, gauges, span{t1, t2, *from, *to}, *points)
 	if err != nil {
 		return fmt.Errorf("query: %w", err)
 	}
@@ -82,7 +82,26 @@ func cmdQuery(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 }
 
 // runQuery reads the data directory directly or asks the daemon.
-func runQuery(ctx context.Context, src *source, stderr io.Writer, gauges []string, from, to time.Time, points int) (seriesio.QueryResult, error) {
+// A span is a command's --from and --to, resolved on this machine's clock
+// for a direct read and passed as written to a daemon, which resolves
+// "now" and offsets on its own clock (the demo's runs fast).
+type span struct {
+	from, to       time.Time
+	fromArg, toArg string
+}
+
+// values adds from and to as the daemon should read them.
+func (s span) values(v url.Values) url.Values {
+	if s.fromArg != "" {
+		v.Set("from", s.fromArg)
+	}
+	if s.toArg != "" {
+		v.Set("to", s.toArg)
+	}
+	return v
+}
+
+func runQuery(ctx context.Context, src *source, stderr io.Writer, gauges []string, sp span, points int) (seriesio.QueryResult, error) {
 	db, err := src.openDirect(stderr)
 	if err != nil {
 		return seriesio.QueryResult{}, err
@@ -93,7 +112,7 @@ func runQuery(ctx context.Context, src *source, stderr io.Writer, gauges []strin
 		if err != nil {
 			return seriesio.QueryResult{}, err
 		}
-		q := seriesio.Query{Series: names, From: from, To: to, Points: points, Kinds: src.kinds()}
+		q := seriesio.Query{Series: names, From: sp.from, To: sp.to, Points: points, Kinds: src.kinds()}
 		res, err := q.Run(db)
 		var ce *store.ChunkError
 		if errors.As(err, &ce) {
@@ -102,8 +121,7 @@ func runQuery(ctx context.Context, src *source, stderr io.Writer, gauges []strin
 		}
 		return res, err
 	}
-	v := url.Values{"gauge": gauges, "from": {from.Format(time.RFC3339Nano)}, "to": {to.Format(time.RFC3339Nano)},
-		"points": {strconv.Itoa(points)}}
+	v := sp.values(url.Values{"gauge": gauges, "points": {strconv.Itoa(points)}})
 	var res seriesio.QueryResult
 	err = src.api.do(ctx, "GET", "/api/v1/series?"+v.Encode(), nil, &res)
 	return res, err

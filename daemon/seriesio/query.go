@@ -167,7 +167,10 @@ func (r QueryResult) WriteText(w io.Writer) error {
 			}
 			v := "-"
 			if e.Value != nil {
-				v = formatFloat(*e.Value) + " " + unit
+				v = formatFloat(*e.Value)
+				if unit != "" {
+					v += " " + unit
+				}
 			}
 			q := ""
 			if e.Quality != "ok" {
