@@ -164,15 +164,15 @@ func (d *Daemon) apiExport(w http.ResponseWriter, r *http.Request) {
 }
 
 // spanAll is span for exports: an absent from means the beginning of the
-// store, an absent to means now.
+// store, an absent to its end.
 func (d *Daemon) spanAll(r *http.Request) (time.Time, time.Time, error) {
-	if r.URL.Query().Get("from") == "" {
-		q := r.URL.Query()
+	q := r.URL.Query()
+	if q.Get("from") == "" {
 		q.Set("from", "1678-01-01T00:00:00Z")
-		if q.Get("to") == "" {
-			q.Set("to", "2262-01-01T00:00:00Z")
-		}
-		r.URL.RawQuery = q.Encode()
 	}
+	if q.Get("to") == "" {
+		q.Set("to", "2262-01-01T00:00:00Z")
+	}
+	r.URL.RawQuery = q.Encode()
 	return d.span(r)
 }

@@ -28,7 +28,7 @@ Writes every stored sample of the gauges between T1 and T2 to stdout (or
                Needs each gauge's kind: from --config or --kind.
 
 Times: RFC 3339, Unix seconds, now, or an offset such as -8h; default
-everything stored. With --data DIR (or --config FILE) the directory is read
+everything stored (samples stamped in the future included). With --data DIR (or --config FILE) the directory is read
 directly when no daemon holds it; otherwise the running daemon streams the
 export (--daemon). Which one was used is said on stderr.`
 
@@ -39,7 +39,7 @@ func cmdExport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	fs.Var(&gauges, "gauge", "gauge `name` (repeat, or a,b)")
 	all := fs.Bool("all", false, "every stored series")
 	from := fs.String("from", "", "start of the span (`time`; default the first sample)")
-	to := fs.String("to", "", "end of the span (`time`; default now)")
+	to := fs.String("to", "", "end of the span (`time`; default the last sample)")
 	format := fs.String("format", "csv", "`format`: csv, jsonl or openmetrics")
 	kind := fs.String("kind", "", "`kind` (pressure, temperature, state) for gauges the config does not name (openmetrics)")
 	out := fs.String("o", "", "write to `file` instead of stdout")
@@ -57,7 +57,7 @@ func cmdExport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 		return err
 	}
 	now := time.Now()
-	t1, t2 := time.Date(1678, 1, 1, 0, 0, 0, 0, time.UTC), now
+	t1, t2 := time.Date(1678, 1, 1, 0, 0, 0, 0, time.UTC), time.Date(2262, 1, 1, 0, 0, 0, 0, time.UTC)
 	var err error
 	if *from != "" {
 		if t1, err = seriesio.ParseTime(*from, now); err != nil {

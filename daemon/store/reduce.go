@@ -76,14 +76,16 @@ func Buckets(points int) int { return max(1, points/perBucket) }
 // GapLimit returns the spacing beyond which two consecutive points of pts,
 // as returned by Reduce(series, from, to, points), have no stored point
 // between them: the larger of the widest bucket (to−from)/Buckets(points)
-// and 4 times the median spacing of pts. Both directions hold: two
-// consecutive points of pts further apart than GapLimit are consecutive
-// stored points (so the stretch between them is a gap, never a
-// reduction), and every stretch longer than GapLimit without a stored point
-// lies between two consecutive points of pts. (A bucket's points lie within
-// its width; points of different buckets that are consecutive in the result
-// are the last of one bucket and the first of the next, hence consecutive
-// in the store.) Plot a line break there; never join across it.
+// and 4 times the 10th percentile of the spacings in pts (the stored
+// cadence: even a reduced result holds consecutive stored points at each
+// bucket's edges). Both directions hold: two consecutive points of pts
+// further apart than GapLimit are consecutive stored points (so the stretch
+// between them is a gap, never a reduction), and every stretch longer than
+// GapLimit without a stored point lies between two consecutive points of
+// pts. (A bucket's points lie within its width; points of different buckets
+// that are consecutive in the result are the last of one bucket and the
+// first of the next, hence consecutive in the store.) Plot a line break
+// there; never join across it.
 func GapLimit(pts []Point, from, to time.Time, points int) time.Duration {
 	w := to.Sub(from) / time.Duration(Buckets(points))
 	if len(pts) < 3 {
@@ -94,7 +96,7 @@ func GapLimit(pts []Point, from, to time.Time, points int) time.Duration {
 		d[i] = pts[i+1].At.Sub(pts[i].At)
 	}
 	slices.Sort(d)
-	return max(w, 4*d[len(d)/2])
+	return max(w, 4*d[len(d)/10])
 }
 
 // A reducer selects Reduce's points from a stream in time order. It keeps
