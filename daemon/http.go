@@ -27,6 +27,7 @@ func (d *Daemon) handler() http.Handler {
 	mux.HandleFunc("GET /{$}", d.landing)
 	d.calibRoutes(mux)
 	d.alarmRoutes(mux)
+	d.seriesRoutes(mux)
 	return mux
 }
 

@@ -62,6 +62,10 @@ var commands = map[string]command{
 	"ports":     {"list serial ports", cmdPorts},
 	"probe":     {"run one gauge's exchange and show the bytes", cmdProbe},
 	"simulate":  {"serve the simulated chamber's instruments on a pseudo-terminal", cmdSimulate},
+	"query":     {"show stored samples of gauges, reduced for reading or plotting", cmdQuery},
+	"export":    {"write stored samples as CSV, JSON lines or OpenMetrics", cmdExport},
+	"import":    {"load history from a CSV file into a data directory", cmdImport},
+	"db":        {"store file: stats, compact, backup", cmdDB},
 }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
