@@ -109,6 +109,9 @@ func demoScenario(file string) (*daemon.Config, error) {
 
 func demoDataDir(dir string, keep bool, stdout io.Writer) (string, func(), error) {
 	if dir != "" {
+		if err := os.MkdirAll(dir, 0o700); err != nil {
+			return "", nil, fmt.Errorf("data directory: %w", err)
+		}
 		return dir, func() {}, nil
 	}
 	tmp, err := os.MkdirTemp("", "holdfast-demo-")

@@ -25,7 +25,7 @@ func TestDemoConfigMatchesExample(t *testing.T) {
 // events and a summary with stored samples.
 func TestDemoRunsAndSummarises(t *testing.T) {
 	var out, errOut bytes.Buffer
-	dir := t.TempDir()
+	dir := filepath.Join(t.TempDir(), "not", "yet") // a new user's --data need not exist
 	err := run(context.Background(), []string{"demo", "--for", "1500ms", "--speed", "3000",
 		"--listen", "127.0.0.1:0", "--data", dir}, &out, &errOut)
 	if err != nil {
