@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strconv"
 	"time"
 
 	"holdfast/daemon/store"
@@ -154,7 +155,7 @@ func (r QueryResult) WriteCSV(w io.Writer) error {
 }
 
 // WriteText writes the result for people: one line per sample, values in
-// SI units, gaps as a line of their own.
+// SI units to six significant digits, gaps as a line of their own.
 func (r QueryResult) WriteText(w io.Writer) error {
 	bw := bufio.NewWriter(w)
 	for _, s := range r.Series {
@@ -167,7 +168,7 @@ func (r QueryResult) WriteText(w io.Writer) error {
 			}
 			v := "-"
 			if e.Value != nil {
-				v = formatFloat(*e.Value)
+				v = strconv.FormatFloat(*e.Value, 'g', 6, 64) // for reading; CSV and JSON keep every bit
 				if unit != "" {
 					v += " " + unit
 				}
