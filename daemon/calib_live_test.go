@@ -212,7 +212,7 @@ func TestLiveCalibrationWorkflow(t *testing.T) {
 	}
 
 	liveMisfit(t, b, []uint64{ids[0], ids[1], ids[5]}) // the 0.5, 2 and 10 Pa holds
-	liveCombined(t, b) // before reprocessing changes the Pirani's stored values
+	liveCombined(t, b)                                 // before reprocessing changes the Pirani's stored values
 	liveActivateAndReprocess(t, b, rec, ids)
 	b.stop()
 
