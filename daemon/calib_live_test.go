@@ -212,7 +212,8 @@ func TestLiveCalibrationWorkflow(t *testing.T) {
 	}
 
 	liveMisfit(t, b, []uint64{ids[0], ids[1], ids[5]}) // the 0.5, 2 and 10 Pa holds
-	liveCombined(t, b)                                 // before reprocessing changes the Pirani's stored values
+	// Before reprocessing changes the Pirani's stored values:
+	liveCombined(t, b)
 	liveActivateAndReprocess(t, b, rec, ids)
 	b.stop()
 
