@@ -4,6 +4,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -19,21 +20,34 @@ type riseWant struct {
 	leakTol, outgasTol float64 // 0 skips that check
 	reason             string  // a word the reason must contain
 	minTrim, maxTrim   float64 // seconds trimmed from a falling start
+	// For records no model here follows exactly: the classifications the
+	// record may get, and the largest leak share the fit may report.
+	anyOf    []Classification
+	maxShare float64 // 0 skips
 }
 
 const fixtureVolume = 0.03 // m³ (30 L)
 
 var riseWants = map[string]riseWant{
-	"leak-line":      {class: LeakDominated, model: ModelLine, leakTol: 0.03},
-	"outgassing":     {class: OutgassingDominated, model: ModelCurved, outgasTol: 0.05},
-	"mixed":          {class: Mixed, model: ModelCurved, leakTol: 0.10, outgasTol: 0.10},
-	"flat":           {class: Inconclusive, reason: "within noise"},
-	"outliers":       {class: LeakDominated, model: ModelLine, leakTol: 0.03},
-	"falling-start":  {class: Mixed, model: ModelCurved, leakTol: 0.10, outgasTol: 0.15, minTrim: 50, maxTrim: 75},
-	"quantised":      {class: LeakDominated, model: ModelLine, leakTol: 0.03},
-	"unsorted":       {class: LeakDominated, model: ModelLine, leakTol: 0.03},
-	"short":          {class: Inconclusive, reason: "too short"},
-	"log-outgassing": {},
+	"leak-line":     {class: LeakDominated, model: ModelLine, leakTol: 0.03},
+	"outgassing":    {class: OutgassingDominated, model: ModelCurved, outgasTol: 0.05},
+	"mixed":         {class: Mixed, model: ModelCurved, leakTol: 0.10, outgasTol: 0.10},
+	"flat":          {class: Inconclusive, reason: "within noise"},
+	"outliers":      {class: LeakDominated, model: ModelLine, leakTol: 0.03},
+	"falling-start": {class: Mixed, model: ModelCurved, leakTol: 0.10, outgasTol: 0.15, minTrim: 50, maxTrim: 75},
+	"quantised":     {class: LeakDominated, model: ModelLine, leakTol: 0.03},
+	"unsorted":      {class: LeakDominated, model: ModelLine, leakTol: 0.03},
+	"short":         {class: Inconclusive, reason: "too short"},
+	// Outgassing falling as 1/t: p = P0 + C·ln(1 + x/T0), C = 2e-3 Pa,
+	// T0 = 30 s, no leak at all (the unbaked-metal law q ∝ t⁻¹, REFERENCES.md
+	// §3; O'Hanlon, from memory). By hand: dp/dt = C/(T0 + x) falls from
+	// 2e-3/30 = 6.667e-5 Pa/s at x = 0 to 2e-3/1828 = 1.094e-6 Pa/s at
+	// x = 1798 s, 61-fold, over a rise of C·ln(1828/30) = 8.22e-3 Pa (400
+	// times the noise). The exponential cannot follow the ln tail, so part
+	// of it lands in the linear term; what must hold is that the rise is
+	// not called a leak, that the curved model is chosen, and that the leak
+	// term explains under half the rise (its truth is none of it).
+	"log-outgassing": {anyOf: []Classification{OutgassingDominated, Mixed}, model: ModelCurved, maxShare: 0.5},
 	"furnace":        {class: LeakDominated, model: ModelLine, leakTol: 0.02},
 }
 
@@ -44,12 +58,21 @@ func TestRiseFixtures(t *testing.T) {
 			if !ok {
 				t.Fatalf("no expectation for fixture %q", spec.Name)
 			}
+			if want.class == "" && want.anyOf == nil {
+				t.Fatalf("fixture %q pins no classification: a fixture must assert what the analysis finds", spec.Name)
+			}
 			res := analyzeFixture(t, spec)
 			if want.class != "" && res.Classification != want.class {
 				t.Errorf("classification %s (%s), want %s", res.Classification, res.Reason, want.class)
 			}
 			if want.model != "" && res.Fit.Model != want.model {
 				t.Errorf("model %s (ΔBIC %.1f), want %s", res.Fit.Model, res.DeltaBIC, want.model)
+			}
+			if want.anyOf != nil && !slices.Contains(want.anyOf, res.Classification) {
+				t.Errorf("classification %s (%s), want one of %v", res.Classification, res.Reason, want.anyOf)
+			}
+			if want.maxShare > 0 && !(res.LeakShare <= want.maxShare) {
+				t.Errorf("leak share %.3f, want at most %.2f (the record has no leak)", res.LeakShare, want.maxShare)
 			}
 			if !strings.Contains(res.Reason, want.reason) {
 				t.Errorf("reason %q lacks %q", res.Reason, want.reason)

@@ -40,24 +40,56 @@ func TestLoadConfigReportsEveryProblem(t *testing.T) {
 	}
 }
 
-// Every mistake planted in several-mistakes.yaml is reported on its own line.
-func TestSeveralMistakesEachNamed(t *testing.T) {
-	_, err := LoadConfig(filepath.Join("..", "testdata", "config", "several-mistakes.yaml"))
-	if err == nil {
-		t.Fatal("want problems")
-	}
-	msg := err.Error()
-	for _, want := range []string{
-		":4: chamber.volume: \"30 Torr\" is a pressure", ":6: http.listen:", ":9: store.flush_evry: unknown key",
-		":15: links.bench.simulator.timeline[0]: want exactly one action",
-		":21: gauges.pirani-1.kind:", ":22: gauges.pirani-1.interval:",
-		":24: gauges.ion-1.link: unknown link \"benchh\"", ":28: gauges.ion-1.unit:",
-		":32: alarms[0].above: \"10 L\" is a volume", ":33: alarms[0].severity:",
-		":34: alarms[1].name: alarm \"too-high\" is already defined", ":35: alarms[1].gauge: unknown gauge",
+// Every mistake planted in a bad fixture is reported on its own line, with
+// the line and path typed by hand from the yaml file (not from the golden
+// list, which -update rewrites from the code's output). Each fixture also
+// gives exactly as many problems as it plants.
+func TestPlantedMistakesEachNamed(t *testing.T) {
+	for _, c := range []struct {
+		name    string
+		planted int // mistakes planted in the file, counted by hand
+		want    []string
+	}{
+		{"several-mistakes", 12, []string{
+			":4: chamber.volume: \"30 Torr\" is a pressure", ":6: http.listen:", ":9: store.flush_evry: unknown key",
+			":15: links.bench.simulator.timeline[0]: want exactly one action",
+			":21: gauges.pirani-1.kind:", ":22: gauges.pirani-1.interval:",
+			":24: gauges.ion-1.link: unknown link \"benchh\"", ":28: gauges.ion-1.unit:",
+			":32: alarms[0].above: \"10 L\" is a volume", ":33: alarms[0].severity:",
+			":34: alarms[1].name: alarm \"too-high\" is already defined", ":35: alarms[1].gauge: unknown gauge",
+		}},
+		// Line 1 opens a flow mapping that never closes.
+		{"not-yaml", 1, []string{"not-yaml.yaml:1: not valid YAML"}},
+		// Line 35: the expect regexp names (?P<valu>…), not value; line 36:
+		// checksum kind sum9; line 70: volts_per_decade 0; line 83: type uint17.
+		{"bad-hardware", 4, []string{
+			"bad-hardware.yaml:35: gauges.foreline.exchange[0].expect:", "no (?P<value>...) group",
+			"bad-hardware.yaml:36: gauges.foreline.checksum.kind:", "\"sum9\"",
+			"bad-hardware.yaml:70: gauges.chamber-tc.transfer.log_linear.volts_per_decade:", "got 0",
+			"bad-hardware.yaml:83: gauges.process-cdg.modbus.type:", "\"uint17\"",
+		}},
+		// Line 5: data_bits: eight; line 7: digits: many; line 9: for: 1 century.
+		{"one-line-types", 3, []string{
+			"one-line-types.yaml:5: links.bus2.serial.data_bits:", "(eight)",
+			"one-line-types.yaml:7: gauges.p1.digits:", "(many)",
+			"one-line-types.yaml:9: alarms[0].for:", "\"century\"",
+		}},
 	} {
-		if !strings.Contains(msg, want) {
-			t.Errorf("problems lack %q; got:\n%s", want, msg)
-		}
+		t.Run(c.name, func(t *testing.T) {
+			_, err := LoadConfig(filepath.Join("..", "testdata", "config", c.name+".yaml"))
+			if err == nil {
+				t.Fatal("want problems")
+			}
+			msg := err.Error()
+			for _, want := range c.want {
+				if !strings.Contains(msg, want) {
+					t.Errorf("problems lack %q; got:\n%s", want, msg)
+				}
+			}
+			if got := strings.Count(msg, "\n") + 1; got != c.planted {
+				t.Errorf("%d problems, want the %d planted; got:\n%s", got, c.planted, msg)
+			}
+		})
 	}
 }
 
