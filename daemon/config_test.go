@@ -63,10 +63,10 @@ func TestPlantedMistakesEachNamed(t *testing.T) {
 		// Line 35: the expect regexp names (?P<valu>…), not value; line 36:
 		// checksum kind sum9; line 70: volts_per_decade 0; line 83: type uint17.
 		{"bad-hardware", 4, []string{
-			"bad-hardware.yaml:35: gauges.foreline.exchange[0].expect:", "no (?P<value>...) group",
-			"bad-hardware.yaml:36: gauges.foreline.checksum.kind:", "\"sum9\"",
-			"bad-hardware.yaml:70: gauges.chamber-tc.transfer.log_linear.volts_per_decade:", "got 0",
-			"bad-hardware.yaml:83: gauges.process-cdg.modbus.type:", "\"uint17\"",
+			"bad-hardware.yaml:38: gauges.foreline.exchange[0].expect:", "no (?P<value>...) group",
+			"bad-hardware.yaml:39: gauges.foreline.checksum.kind:", "\"sum9\"",
+			"bad-hardware.yaml:77: gauges.chamber-tc.transfer.log_linear.volts_per_decade:", "got 0",
+			"bad-hardware.yaml:90: gauges.process-cdg.modbus.type:", "\"uint17\"",
 		}},
 		// Line 5: data_bits: eight; line 7: digits: many; line 9: for: 1 century.
 		{"one-line-types", 3, []string{
