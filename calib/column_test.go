@@ -48,14 +48,14 @@ func TestColumnPublishedValues(t *testing.T) {
 // than read from the code: ρ(t) = 13545.848·v(20 °C)/v(t), worked by hand
 // (bc, 10 digits) from the entries in mL/g:
 //
-//	 t/°C   v(t)        ρ(t)/(kg/m³)
-//	 −10    0.0734205   13545.848·0.0738215/0.0734205 = 13619.831
-//	   0    0.073554    13595.111 (the conventional 13595.1 to 1e-6)
-//	  10    0.0736877   13570.444
-//	  20    0.0738215   13545.848 (the anchor, Sommer & Poziemski, M)
-//	  30    0.0739552   13521.359
-//	  40    0.0740891   13496.922
-//	  90    0.0747594   13375.907
+//	t/°C   v(t)        ρ(t)/(kg/m³)
+//	−10    0.0734205   13545.848·0.0738215/0.0734205 = 13619.831
+//	  0    0.073554    13595.111 (the conventional 13595.1 to 1e-6)
+//	 10    0.0736877   13570.444
+//	 20    0.0738215   13545.848 (the anchor, Sommer & Poziemski, M)
+//	 30    0.0739552   13521.359
+//	 40    0.0740891   13496.922
+//	 90    0.0747594   13375.907
 //
 // The bound is 1e-6 relative (±0.014 kg/m³), the accuracy the table's
 // seven digits carry.
@@ -78,8 +78,8 @@ func TestMercuryDensityTable(t *testing.T) {
 
 // Between the table's entries the density follows the table's curve. Hand
 // bound: the curvature of v is that of the table's own quadratic fit
-// (v'' = 2 × 1.22823e-9 mL/(g·K²), CRC Handbook, C2), so the chord between
-// entries 10 °C apart misses the curve by at most (10²/8)·v'' = 3.1e-8 mL/g,
+// (v” = 2 × 1.22823e-9 mL/(g·K²), CRC Handbook, C2), so the chord between
+// entries 10 °C apart misses the curve by at most (10²/8)·v” = 3.1e-8 mL/g,
 // 4.2e-7 relative; with the entries' rounding (±5e-8 mL/g) the interpolant
 // must lie within 1e-6 of the chord. At 15 °C the chord gives
 // v = (0.0736877 + 0.0738215)/2 = 0.0737546, ρ = 13545.848·0.0738215/0.0737546
