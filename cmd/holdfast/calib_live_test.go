@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -100,8 +101,14 @@ func TestCalibLiveCommands(t *testing.T) {
 	if _, errOut, err := runCmd(t, append([]string{"calib", "plot", "1", "-o", svg}, api...)...); err != nil {
 		t.Fatalf("calib plot 1: %v %s", err, errOut)
 	}
-	if b, err := os.ReadFile(svg); err != nil || !strings.Contains(string(b), "<svg") {
-		t.Errorf("calib plot wrote no SVG: %v", err)
+	b, err := os.ReadFile(svg)
+	if err != nil {
+		t.Fatalf("calib plot wrote no SVG: %v", err)
+	}
+	// The stored version's three points, the legend's marker, and a curve.
+	texts, paths := readSVG(t, b)
+	if n := countStroke(paths, pointColor); n != 4 || !slices.Contains(texts, "fitted curve") {
+		t.Errorf("calib plot 1: %d point markers (want 3 and the legend's), texts %q", n, texts)
 	}
 	out, _, err = runCmd(t, append([]string{"reprocess", "--gauge", "fore", "--calibration", "1", "--from", start.Format(time.RFC3339), "--to", start.Add(15 * time.Minute).Format(time.RFC3339)}, api...)...)
 	if err != nil || !strings.Contains(out, "recomputed with calibration 1") {

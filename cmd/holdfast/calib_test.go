@@ -4,10 +4,15 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"encoding/xml"
 	"flag"
+	"fmt"
+	"image/color"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -162,6 +167,10 @@ func TestCalibHelpExplainsWorkflow(t *testing.T) {
 	}
 }
 
+// TestCalibPlot draws the demo set and reads the SVG back: it must carry the
+// axis labels and legend, one marker per point in the points' colour and one
+// per residual in theirs (foreline.csv has 18 rows), and a fitted curve of
+// many segments; an empty or half-drawn plot fails. The PNG only has to be one.
 func TestCalibPlot(t *testing.T) {
 	out, _, err := runCmd(t, "calib", "fit", "--points", filepath.Join("testdata", "calib", "foreline.csv"), "--model", "heat-loss", "--quiet")
 	if err != nil {
@@ -174,16 +183,92 @@ func TestCalibPlot(t *testing.T) {
 	}
 	for _, ext := range []string{"svg", "png"} {
 		img := filepath.Join(dir, "c."+ext)
-		if _, _, err := runCmd(t, "calib", "plot", "--calibration", file, "-o", img); err != nil {
+		if _, _, err := runCmd(t, "calib", "plot", "--calibration", file, "-o", img, "--unit", "mbar"); err != nil {
 			t.Fatalf("%s: %v", ext, err)
 		}
 		b, err := os.ReadFile(img)
 		if err != nil {
 			t.Fatal(err)
 		}
-		head := map[string]string{"svg": "<?xml", "png": "\x89PNG"}[ext]
-		if !bytes.HasPrefix(b, []byte(head)) || len(b) < 1000 {
-			t.Errorf("%s output starts %q (%d bytes)", ext, b[:min(len(b), 8)], len(b))
+		if ext == "png" {
+			if !bytes.HasPrefix(b, []byte("\x89PNG")) || len(b) < 1000 {
+				t.Errorf("png output starts %q (%d bytes)", b[:min(len(b), 8)], len(b))
+			}
+			continue
+		}
+		texts, paths := readSVG(t, b)
+		for _, w := range []string{"heat-loss calibration", "raw signal", "pressure (mbar)", "residual (%)", "reference points", "fitted curve"} {
+			if !slices.Contains(texts, w) {
+				t.Errorf("svg lacks the text %q; has %q", w, texts)
+			}
+		}
+		const rows = 18
+		if n := countStroke(paths, pointColor); n != rows+1 { // +1: the legend's marker
+			t.Errorf("%d markers in the points' colour, want %d points and the legend's", n, rows+1)
+		}
+		if n := countStroke(paths, residualColor); n != rows {
+			t.Errorf("%d markers in the residuals' colour, want %d", n, rows)
+		}
+		longest := 0
+		for _, p := range paths {
+			if strings.Contains(p.style, "stroke:"+svgHex(curveColor)) {
+				longest = max(longest, strings.Count(p.d, "L"))
+			}
+		}
+		if longest < 100 {
+			t.Errorf("the fitted curve has %d segments, want a curve of 100 or more", longest)
 		}
 	}
+}
+
+type svgPath struct{ d, style string }
+
+// readSVG returns the SVG's text contents (trimmed) and its paths.
+func readSVG(t *testing.T, b []byte) (texts []string, paths []svgPath) {
+	t.Helper()
+	dec := xml.NewDecoder(bytes.NewReader(b))
+	inText := false
+	for {
+		tok, err := dec.Token()
+		if err == io.EOF {
+			return texts, paths
+		}
+		if err != nil {
+			t.Fatalf("svg does not parse: %v", err)
+		}
+		switch el := tok.(type) {
+		case xml.StartElement:
+			inText = el.Name.Local == "text"
+			if el.Name.Local == "path" {
+				var p svgPath
+				for _, a := range el.Attr {
+					switch a.Name.Local {
+					case "d":
+						p.d = a.Value
+					case "style":
+						p.style = a.Value
+					}
+				}
+				paths = append(paths, p)
+			}
+		case xml.CharData:
+			if inText {
+				texts = append(texts, strings.TrimSpace(string(el)))
+			}
+		case xml.EndElement:
+			inText = false
+		}
+	}
+}
+
+func svgHex(c color.RGBA) string { return fmt.Sprintf("#%02X%02X%02X", c.R, c.G, c.B) }
+
+func countStroke(paths []svgPath, c color.RGBA) int {
+	n := 0
+	for _, p := range paths {
+		if strings.Contains(p.style, "stroke:"+svgHex(c)) {
+			n++
+		}
+	}
+	return n
 }
