@@ -15,7 +15,8 @@ import (
 )
 
 // An invented bench: an isolated vessel vented in steps to pressures that
-// hold, watched by the simulator's Pirani (REFERENCES.md §5b curve).
+// hold, watched by the simulator's Pirani (its curve is an invented example,
+// demo data and not a reference; REFERENCES.md §5b).
 const cmdLiveConfig = `
 chamber: {name: cli-bench, volume: 30 L}
 http: {listen: "127.0.0.1:0", token_file: TOKEN}
@@ -72,7 +73,7 @@ func TestCalibLiveCommands(t *testing.T) {
 	for _, args := range [][]string{
 		{"--reference", "1Pa", "--at", at(5)},
 		{"--reference", "0.225Torr", "--at", at(10)},   // 30.0 Pa
-		{"--column-height", "4.688cm", "--at", at(15)}, // 870 kg/m3 × g_n × 4.688 cm = 399.97 Pa (REFERENCES.md §2b: 85.318 Pa/cm)
+		{"--column-height", "4.688cm", "--at", at(15)}, // invented oil: 870 kg/m3 × 9.80665 × 0.04688 m = 399.97 Pa
 	} {
 		out, errOut, err := runCmd(t, append(append([]string{"calib", "point", "--gauge", "fore"}, args...), api...)...)
 		if err != nil {
