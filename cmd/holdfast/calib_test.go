@@ -116,12 +116,15 @@ func TestCalibEvalOutsideRange(t *testing.T) {
 	if err := os.WriteFile(file, []byte(out), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	got, warn, err := runCmd(t, "calib", "eval", "--calibration", file, "--unit", "Torr", "1.0", "--strict=false")
+	// The demo set scatters about an invented 0.8 V/decade with 4.0 V at
+	// 1 Torr; 0 V lies below its first point (0.8 V) and reads about
+	// 10^((0 − 4)/0.8) = 1e-5 Torr by hand.
+	got, warn, err := runCmd(t, "calib", "eval", "--calibration", file, "--unit", "Torr", "0.0", "--strict=false")
 	if err != nil || !strings.Contains(warn, "warning") || !strings.Contains(warn, "pressure below") {
 		t.Errorf("eval outside: err %v, stderr %q", err, warn)
 	}
 	if v, _ := strconv.ParseFloat(strings.TrimSpace(got), 64); math.Abs(v/1e-5-1) > 0.02 {
-		t.Errorf("eval 1.0 V printed %q, want about 1e-5 Torr", got)
+		t.Errorf("eval 0.0 V printed %q, want about 1e-5 Torr", got)
 	}
 	_, _, err = runCmd(t, "calib", "eval", "--calibration", file, "--strict", "-0.5")
 	if err == nil || !strings.Contains(err.Error(), "outside the calibrated raw range") {
