@@ -86,32 +86,33 @@ func TestCalibrationApplyOutsideRange(t *testing.T) {
 	}
 }
 
-// GUM (JCGM 100:2008) 5.1.2 and 4.3.7, hand-computed: a log-linear output at
-// 1 V/decade (REFERENCES.md §7a) with a 0.001 V step and a reference stated
-// as 0.5 % (k = 2):
+// GUM (JCGM 100:2008) 5.1.2 and 4.3.7, hand-computed: the invented
+// log-linear output B of REFERENCES.md §7a (0.5 V/decade, 5.0 V at 1 Pa, so
+// d ln p/dU = ln 10/0.5 = 4.60517 per volt) with a 0.001 V step and a
+// reference stated as 0.5 % (k = 2):
 //
 //	u_ref = 0.005/2 = 2.5e-3
-//	u_res = (0.001/2)/√3 · ln 10 = 6.6467e-4
+//	u_res = (0.001/2)/√3 · 4.60517 = 1.329398e-3
 //	u_fit = 0 (exact points)
-//	u_c   = sqrt(2.5e-3² + 6.6467e-4²) = 2.58685e-3;  U = 2·u_c = 5.1737e-3
+//	u_c   = sqrt(2.5e-3² + 1.329398e-3²) = 2.831484e-3;  U = 2·u_c = 5.662967e-3
+//
+// Points at 3 … 7 V span 10^−4 … 10^4 Pa: eight whole decades, eight ranges.
 func TestUncertaintyHandComputed(t *testing.T) {
 	if got := CombineStandard(3, 4); got != 5 {
 		t.Errorf("CombineStandard(3, 4) = %g, want 5", got)
 	}
-	var pts []Point
-	for u := 2.0; u <= 8; u++ {
-		pts = append(pts, Point{Raw: u, Reference: math.Pow(10, u-4)})
-	}
+	pts := []Point{{Raw: 3, Reference: 1e-4}, {Raw: 4, Reference: 1e-2}, {Raw: 5, Reference: 1},
+		{Raw: 6, Reference: 1e2}, {Raw: 7, Reference: 1e4}}
 	c := mustFit(t, ModelLogLinear, pts, FitOptions{ReferenceUncertainty: 0.005, Resolution: 0.001})
-	if n := len(c.Uncertainty.Ranges); n != 6 {
-		t.Fatalf("%d ranges, want one per decade (6)", n)
+	if n := len(c.Uncertainty.Ranges); n != 8 {
+		t.Fatalf("%d ranges, want one per decade (8)", n)
 	}
 	for _, r := range c.Uncertainty.Ranges {
-		if !near(r.Resolution, 6.6467e-4, 1e-4) || !near(r.Combined, 2.58685e-3, 1e-4) || !near(r.Expanded, 5.1737e-3, 1e-4) {
+		if !near(r.Resolution, 1.329398e-3, 1e-5) || !near(r.Combined, 2.831484e-3, 1e-5) || !near(r.Expanded, 5.662967e-3, 1e-5) {
 			t.Errorf("range %g…%g Pa: %+v", r.From, r.To, r)
 		}
 	}
-	if u, ok := c.Uncertainty.At(50); !ok || !near(u, 5.1737e-3, 1e-4) {
+	if u, ok := c.Uncertainty.At(50); !ok || !near(u, 5.662967e-3, 1e-5) {
 		t.Errorf("At(50 Pa) = %g, %v", u, ok)
 	}
 }

@@ -41,8 +41,9 @@ func mustApply(t *testing.T, c *Calibration, raw float64) float64 {
 	return p
 }
 
-// REFERENCES.md §5b (model arithmetic, D): a = 0.5 mW/Pa, p_t = 100 Pa.
-// Exact points from that model must give its parameters back.
+// An invented example (REFERENCES.md §5b; demo numbers, not a reference) of
+// the heat-loss form S = a·p/(1 + p/p_t) with a = 0.5 mW/Pa, p_t = 100 Pa:
+// exact points from it must give its parameters back.
 func TestFitHeatLossRecoversPublishedModel(t *testing.T) {
 	truth := HeatLoss{S0: 0, A: 0.5, Pt: 100}
 	var pts []Point
@@ -54,7 +55,8 @@ func TestFitHeatLossRecoversPublishedModel(t *testing.T) {
 	if !near(got["a_per_pa"], 0.5, 1e-6) || !near(got["pt_pa"], 100, 1e-6) || math.Abs(got["s0"]) > 1e-6 {
 		t.Fatalf("parameters %v, want a=0.5 p_t=100 s0=0", got)
 	}
-	// §5b: S = 4.5455 mW at 10 Pa inverts to 10.000 Pa; S = 25 mW (half saturation) is p_t.
+	// By hand: S(10 Pa) = 0.5·10/(1 + 0.1) = 4.545454545 mW inverts to 10 Pa;
+	// S = 25 mW, half the saturation a·p_t = 50 mW, is p_t = 100 Pa.
 	if p := mustApply(t, c, 4.545454545); !near(p, 10, 1e-6) {
 		t.Errorf("Apply(4.5455 mW) = %g Pa, want 10", p)
 	}
@@ -83,16 +85,19 @@ func TestFitHeatLossRecoversNoisyParameters(t *testing.T) {
 	}
 }
 
-// REFERENCES.md §7a (C2, generic log-linear output): 1 V/decade, c = 4 for Torr:
-// U = 5.5 V → 31.6228 Torr; and 0.6 V/decade with 6.8 V ⇔ 1 mbar: 5.0 V → 1.000e-3 mbar.
-func TestFitLogLinearPublishedOutputs(t *testing.T) {
+// Log-linear fits recover the invented examples of REFERENCES.md §7a
+// (generic form U = c + d·log10(p/unit); slopes and offsets are ours), by
+// hand: A, 0.8 V/decade with 4.0 V at 1 mbar: 5.6 V → 10^((5.6 − 4)/0.8) =
+// 100 mbar = 1e4 Pa; B, 0.5 V/decade with 5.0 V at 1 Pa: 3.5 V →
+// 10^((3.5 − 5)/0.5) = 1e-3 Pa.
+func TestFitLogLinearInventedOutputs(t *testing.T) {
 	for _, tc := range []struct {
 		name                    string
 		perDecade, atUnit, unit float64
 		raw, want               float64
 	}{
-		{"1V/decade Torr", 1, 4, torr, 5.5, 31.6228 * torr},
-		{"0.6V/decade mbar", 0.6, 6.8, 100, 5.0, 1.000e-3 * 100},
+		{"A 0.8V/decade mbar", 0.8, 4, 100, 5.6, 1e4},
+		{"B 0.5V/decade Pa", 0.5, 5, 1, 3.5, 1e-3},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			var pts []Point
@@ -110,8 +115,9 @@ func TestFitLogLinearPublishedOutputs(t *testing.T) {
 	}
 }
 
-// REFERENCES.md §7a / §6a (C2): linear 0–10 V over 1000 mbar, 2.5 V → 250 mbar;
-// 6.0 V on a 10 Torr full-scale gauge → 799.934 Pa.
+// Linear outputs p = (U/10 V)·p_FS (REFERENCES.md §7a / §6a), by hand: an
+// invented 0–10 V over 1000 mbar, 2.5 V → 250 mbar; 6.0 V on a 10 Torr full
+// scale → 6 Torr = 6 × 101325/760 Pa = 799.934 Pa.
 func TestFitLinearPublishedOutputs(t *testing.T) {
 	for _, tc := range []struct {
 		fs, raw, want float64

@@ -62,22 +62,24 @@ func TestPCHIPRejectsBadNodes(t *testing.T) {
 	}
 }
 
-// pchip calibration through points from a log-linear law (REFERENCES.md §7a,
-// 1 V/decade, c = 4 for Torr): between the knots it must stay within the
-// curve's smoothness, and repeated raws are merged.
+// pchip calibration through points from a log-linear law (the invented
+// example A of REFERENCES.md §7a, 0.8 V/decade with 4.0 V at 1 mbar, so
+// p = 100·10^((U − 4)/0.8) Pa): between the knots it must stay on the law,
+// and repeated raws are merged. By hand: 4.4 V → 100·10^0.5 = 316.228 Pa.
 func TestFitPCHIPCalibration(t *testing.T) {
+	law := func(u float64) float64 { return 100 * math.Pow(10, (u-4)/0.8) }
 	var pts []Point
 	for u := 1.0; u <= 9; u++ {
-		pts = append(pts, Point{Raw: u, Reference: torr * math.Pow(10, u-4)})
+		pts = append(pts, Point{Raw: u, Reference: law(u)})
 	}
 	// Repeats at 5 V, 1 % high and 1 % low: merged by their geometric mean.
-	pts = append(pts, Point{Raw: 5, Reference: torr * 10 * 1.01}, Point{Raw: 5, Reference: torr * 10 / 1.01})
+	pts = append(pts, Point{Raw: 5, Reference: law(5) * 1.01}, Point{Raw: 5, Reference: law(5) / 1.01})
 	c := mustFit(t, ModelPCHIP, pts, FitOptions{})
 	if len(c.Knots) != 9 {
 		t.Fatalf("%d knots, want 9 (the repeats merged)", len(c.Knots))
 	}
-	if got, want := mustApply(t, c, 5.5), 31.6228*torr; !near(got, want, 1e-5) {
-		t.Errorf("Apply(5.5) = %g, want %g", got, want)
+	if got, want := mustApply(t, c, 4.4), 316.228; !near(got, want, 1e-5) {
+		t.Errorf("Apply(4.4) = %g, want %g", got, want)
 	}
 	if c.Fit.Scatter > 1e-3 {
 		t.Errorf("leave-one-out scatter %g on an exact law", c.Fit.Scatter)

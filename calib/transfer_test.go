@@ -18,10 +18,24 @@ func unit(t *testing.T, name string) Unit {
 
 func within(got, want, rel float64) bool { return math.Abs(got-want) <= rel*math.Abs(want) }
 
-// The worked checks of REFERENCES.md §7a (analogue outputs of active gauges;
-// the forms are the makers' published ones, brands withheld).
+// The worked checks of REFERENCES.md §7a. The log-linear forms are the
+// generic U = c + d·log10(p/unit); the slopes and offsets are invented
+// examples (no gauge's published characteristic), worked by hand:
+//
+//	A: d = 0.8 V/decade, c = 4.0 V at 1 mbar
+//	   U = 5.6 V: 10^((5.6 − 4)/0.8) = 10^2 = 100 mbar = 1e4 Pa
+//	   U = 2.4 V: 10^((2.4 − 4)/0.8) = 10^−2 mbar = 1 Pa
+//	   U = 4.4 V: 10^(0.4/0.8) = 10^0.5 = 3.16228 mbar = 316.228 Pa
+//	B: d = 0.5 V/decade, c = 5.0 V at 1 Pa
+//	   U = 6.0 V: 10^(1/0.5) = 100 Pa;  U = 3.5 V: 10^(−1.5/0.5) = 1e-3 Pa
+//	   U = 5.25 V: 10^(0.25/0.5) = 3.16228 Pa
+//
+// The linear forms are p = (U/U_FS)·p_FS (invented 1000 mbar full scale;
+// the 10 Torr one as in §6a).
 func TestTransferWorkedChecks(t *testing.T) {
-	torr, mbar := unit(t, "Torr"), unit(t, "mbar")
+	torr, mbar, pa := unit(t, "Torr"), unit(t, "mbar"), unit(t, "Pa")
+	a := LogLinear{VoltsPerDecade: 0.8, OffsetVolts: 4, Unit: mbar}
+	b := LogLinear{VoltsPerDecade: 0.5, OffsetVolts: 5, Unit: pa}
 	for _, c := range []struct {
 		name    string
 		tr      Transfer
@@ -30,14 +44,16 @@ func TestTransferWorkedChecks(t *testing.T) {
 		rel     float64
 		comment string
 	}{
-		{"log 1 V/decade", LogLinear{VoltsPerDecade: 1, OffsetVolts: 4, Unit: torr}, 5.5,
-			torr.ToSI(31.6228), 1e-6, "§7a: c = 4 (Torr), U = 5.5 V -> 31.6228 Torr"},
-		{"log 0.6 V/decade", LogLinear{VoltsPerDecade: 0.6, OffsetVolts: 6.8, Unit: mbar}, 5.0,
-			0.1, 1e-12, "§7a: 6.8 V <-> 1 mbar, U = 5.0 V -> 1.000e-3 mbar = 0.1 Pa"},
+		{"A 5.6 V", a, 5.6, 1e4, 1e-12, "100 mbar"},
+		{"A 2.4 V", a, 2.4, 1, 1e-12, "0.01 mbar"},
+		{"A 4.4 V", a, 4.4, 316.228, 1e-6, "3.16228 mbar"},
+		{"B 6.0 V", b, 6.0, 100, 1e-12, "100 Pa"},
+		{"B 3.5 V", b, 3.5, 1e-3, 1e-12, "1e-3 Pa"},
+		{"B 5.25 V", b, 5.25, 3.16228, 1e-6, "3.16228 Pa"},
 		{"linear 0-10 V", Linear{FullScaleVolts: 10, FullScale: 1000, Unit: mbar}, 2.5,
-			25000, 1e-12, "§7a: FS 1000 mbar, U = 2.5 V -> 250 mbar"},
+			25000, 1e-12, "FS 1000 mbar, U = 2.5 V -> 250 mbar"},
 		{"linear 10 Torr", Linear{FullScaleVolts: 10, FullScale: 10, Unit: torr}, 6.0,
-			799.934, 1e-6, "§7a / §6: 6.0 V on 10 Torr FS -> 6.0 Torr = 799.934 Pa"},
+			799.934, 1e-6, "§6a: 6.0 V on 10 Torr FS -> 6.0 Torr = 799.934 Pa"},
 	} {
 		got, err := c.tr.Apply(c.u)
 		if err != nil || !within(got, c.wantPa, c.rel) {
@@ -60,12 +76,14 @@ func TestLiveZeroLinear(t *testing.T) {
 }
 
 func TestWindowMapsToQualities(t *testing.T) {
-	tr := LogLinear{VoltsPerDecade: 1, OffsetVolts: 5.5, Unit: unit(t, "Pa"),
-		Window: Window{Min: 0.5, Max: 10.2, Below: QualitySensorFault, Above: QualityOverRange}}
+	// Invented characteristic and window (example A of TestTransferWorkedChecks,
+	// valid from 0.4 to 9.6 V).
+	tr := LogLinear{VoltsPerDecade: 0.8, OffsetVolts: 4, Unit: unit(t, "mbar"),
+		Window: Window{Min: 0.4, Max: 9.6, Below: QualitySensorFault, Above: QualityOverRange}}
 	for _, c := range []struct {
 		u    float64
 		want Quality
-	}{{0.2, QualitySensorFault}, {0.5, QualityOK}, {10.2, QualityOK}, {10.5, QualityOverRange}, {math.NaN(), QualitySensorFault}} {
+	}{{0.2, QualitySensorFault}, {0.4, QualityOK}, {9.6, QualityOK}, {9.9, QualityOverRange}, {math.NaN(), QualitySensorFault}} {
 		_, err := tr.Apply(c.u)
 		if q := QualityOf(err); q != c.want {
 			t.Errorf("Apply(%g): quality %s (%v), want %s", c.u, q, err, c.want)
@@ -86,24 +104,22 @@ func TestWindowMapsToQualities(t *testing.T) {
 }
 
 func TestTableReproducesLogLinear(t *testing.T) {
-	// Points sampled from §7a's 1 V/decade form (c = 4, Torr): interpolating
-	// log10 p must give that form back between the points (derived).
-	torr := unit(t, "Torr")
-	ref := LogLinear{VoltsPerDecade: 1, OffsetVolts: 4, Unit: torr}
+	// Points typed from the invented example A (0.8 V/decade, 4.0 V at
+	// 1 mbar): p = 10^((U − 4)/0.8) mbar gives 10^−3.75, 10^−2.5, 10^−0.625,
+	// 10^1.25, 10^2.5 and 10^5 mbar at 1, 2, 3.5, 5, 6 and 8 V. Log10 p is
+	// linear in U, so interpolating it must give the form back between the
+	// points: at 4.4 V 10^0.5 = 3.16228 mbar, at 7.2 V 10^4 mbar.
+	mbar := unit(t, "mbar")
 	volts := []float64{1, 2, 3.5, 5, 6, 8}
-	ps := make([]float64, len(volts))
-	for i, u := range volts {
-		ps[i] = math.Pow(10, u-4)
-	}
-	tab, err := NewTable(volts, ps, torr, Window{})
+	ps := []float64{math.Pow(10, -3.75), math.Pow(10, -2.5), math.Pow(10, -0.625), math.Pow(10, 1.25), math.Pow(10, 2.5), 1e5}
+	tab, err := NewTable(volts, ps, mbar, Window{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, u := range []float64{1, 1.7, 3.2, 5.5, 7.9, 8} {
-		got, err := tab.Apply(u)
-		want, _ := ref.Apply(u)
-		if err != nil || !within(got, want, 1e-9) {
-			t.Errorf("table at %g V = %g Pa, %v; want %g", u, got, err, want)
+	for _, c := range []struct{ u, wantMbar float64 }{{1, math.Pow(10, -3.75)}, {4.4, 3.16227766}, {7.2, 1e4}, {8, 1e5}} {
+		got, err := tab.Apply(c.u)
+		if err != nil || !within(got, 100*c.wantMbar, 1e-8) {
+			t.Errorf("table at %g V = %g Pa, %v; want %g Pa", c.u, got, err, 100*c.wantMbar)
 		}
 	}
 	if _, err := tab.Apply(0.5); !errors.Is(err, ErrBelowRange) {

@@ -48,7 +48,7 @@ func TestConvertPublishedValues(t *testing.T) {
 		{1, "inHg", "Pa", 3386.388640341, 1e-14},
 		{1, "psi", "Pa", 6894.757293168, 1e-12},
 		{1, "kgf/cm2", "Pa", 98066.5, 1e-15},
-		{1, "Torr", "mmHg", 0.999999857533699, 1e-14}, // primidi.com/torr, via REFERENCES.md §1b
+		{1, "Torr", "mmHg", 0.999999857533699, 1e-14}, // D: (101325/760)/(13595.1·9.80665·1e-3), REFERENCES.md §1b
 		// REFERENCES.md §3a leak-rate units (pV throughput).
 		{1, "Pa*m3/s", "mbar*L/s", 10, 1e-15},
 		{1, "mbar*L/s", "Pa*m3/s", 0.1, 1e-15},
@@ -56,8 +56,8 @@ func TestConvertPublishedValues(t *testing.T) {
 		{1, "Torr*L/s", "mbar*L/s", 1.33322368421, 1e-11},
 		{1, "atm*cc/s", "Pa*m3/s", 0.101325, 1e-15},
 		{1, "atm*cc/s", "mbar*L/s", 1.01325, 1e-15},
-		{1, "sccm", "Pa*m3/s", 1.68875e-3, 1e-15}, // 0 °C, 101325 Pa; semiconductor-tools.pages.dev, C2
-		{1, "sccm", "mbar*L/s", 0.0168875, 1e-15}, // same source
+		{1, "sccm", "Pa*m3/s", 1.68875e-3, 1e-15}, // 0 °C, 101325 Pa: D, 1e-6 m³/min × 101325 Pa / 60 s
+		{1, "sccm", "mbar*L/s", 0.0168875, 1e-15}, // the same, in mbar·L/s
 		{1, "Pa*m3/s", "sccm", 592.154, 1e-6},     // D, printed to 6 digits
 		{1, "Pa*m3/s", "Torr*L/s", 7.50062, 1e-6},
 		{1, "Pa*m3/s", "atm*cc/s", 9.86923, 1e-6},
@@ -117,8 +117,8 @@ func TestSCCMStandardConditions(t *testing.T) {
 
 // TestTemperaturePoints checks the Celsius and Fahrenheit relations: t/°C =
 // T/K − 273.15 (SI brochure; IUPAC Gold Book C00928), t/°F = 1.8·t/°C + 32
-// and T/K = (t/°F + 459.67)/1.8 (NIST SP 811 App. B.9, as tabulated at
-// home.vicnet.net.au/~ncrick/converters/temperature.html and webtec.com).
+// and T/K = (t/°F + 459.67)/1.8 (NIST SP 811 (2008) App. B.9, temperature
+// conversions).
 func TestTemperaturePoints(t *testing.T) {
 	for _, c := range []struct {
 		v        float64

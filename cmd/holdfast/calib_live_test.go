@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -14,7 +15,8 @@ import (
 )
 
 // An invented bench: an isolated vessel vented in steps to pressures that
-// hold, watched by the simulator's Pirani (REFERENCES.md §5b curve).
+// hold, watched by the simulator's Pirani (its curve is an invented example,
+// demo data and not a reference; REFERENCES.md §5b).
 const cmdLiveConfig = `
 chamber: {name: cli-bench, volume: 30 L}
 http: {listen: "127.0.0.1:0", token_file: TOKEN}
@@ -71,7 +73,7 @@ func TestCalibLiveCommands(t *testing.T) {
 	for _, args := range [][]string{
 		{"--reference", "1Pa", "--at", at(5)},
 		{"--reference", "0.225Torr", "--at", at(10)},   // 30.0 Pa
-		{"--column-height", "4.688cm", "--at", at(15)}, // 870 kg/m3 × g_n × 4.688 cm = 399.97 Pa (REFERENCES.md §2b: 85.318 Pa/cm)
+		{"--column-height", "4.688cm", "--at", at(15)}, // invented oil: 870 kg/m3 × 9.80665 × 0.04688 m = 399.97 Pa
 	} {
 		out, errOut, err := runCmd(t, append(append([]string{"calib", "point", "--gauge", "fore"}, args...), api...)...)
 		if err != nil {
@@ -100,8 +102,14 @@ func TestCalibLiveCommands(t *testing.T) {
 	if _, errOut, err := runCmd(t, append([]string{"calib", "plot", "1", "-o", svg}, api...)...); err != nil {
 		t.Fatalf("calib plot 1: %v %s", err, errOut)
 	}
-	if b, err := os.ReadFile(svg); err != nil || !strings.Contains(string(b), "<svg") {
-		t.Errorf("calib plot wrote no SVG: %v", err)
+	b, err := os.ReadFile(svg)
+	if err != nil {
+		t.Fatalf("calib plot wrote no SVG: %v", err)
+	}
+	// The stored version's three points, the legend's marker, and a curve.
+	texts, paths := readSVG(t, b)
+	if n := countStroke(paths, pointColor); n != 4 || !slices.Contains(texts, "fitted curve") {
+		t.Errorf("calib plot 1: %d point markers (want 3 and the legend's), texts %q", n, texts)
 	}
 	out, _, err = runCmd(t, append([]string{"reprocess", "--gauge", "fore", "--calibration", "1", "--from", start.Format(time.RFC3339), "--to", start.Add(15 * time.Minute).Format(time.RFC3339)}, api...)...)
 	if err != nil || !strings.Contains(out, "recomputed with calibration 1") {

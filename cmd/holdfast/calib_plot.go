@@ -83,9 +83,17 @@ func renderCalibration(w io.Writer, c *calib.Calibration, unit calib.Unit, forma
 	return err
 }
 
+// The plot's colours: reference points, the fitted curve and the residuals
+// each have their own, so a reader (and the tests) can tell them apart.
+var (
+	pointColor    = color.RGBA{R: 200, A: 255}
+	curveColor    = color.RGBA{G: 80, B: 180, A: 255}
+	residualColor = color.RGBA{G: 120, A: 255}
+)
+
 func curvePlot(c *calib.Calibration, unit calib.Unit) (*plot.Plot, error) {
 	p := plot.New()
-	p.Title.Text = fmt.Sprintf("%s calibration %s", c.Model, c.Gauge)
+	p.Title.Text = strings.TrimSpace(fmt.Sprintf("%s calibration %s", c.Model, c.Gauge))
 	p.X.Label.Text = "raw signal"
 	p.Y.Label.Text = "pressure (" + unit.Symbol() + ")"
 	p.Y.Scale = plot.LogScale{}
@@ -110,11 +118,12 @@ func curvePlot(c *calib.Calibration, unit calib.Unit) (*plot.Plot, error) {
 	if err != nil {
 		return nil, err
 	}
-	sc.Color = color.RGBA{R: 200, A: 255}
+	sc.Color = pointColor
 	ln, err := plotter.NewLine(line)
 	if err != nil {
 		return nil, err
 	}
+	ln.Color = curveColor
 	p.Add(plotter.NewGrid(), ln, sc)
 	p.Legend.Add("reference points", sc)
 	p.Legend.Add("fitted curve", ln)
@@ -136,6 +145,7 @@ func residualPlot(c *calib.Calibration) (*plot.Plot, error) {
 	if err != nil {
 		return nil, err
 	}
+	sc.Color = residualColor
 	zero, err := plotter.NewLine(plotter.XYs{{X: c.Valid.RawMin, Y: 0}, {X: c.Valid.RawMax, Y: 0}})
 	if err != nil {
 		return nil, err

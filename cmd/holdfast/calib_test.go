@@ -4,10 +4,15 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"encoding/xml"
 	"flag"
+	"fmt"
+	"image/color"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -111,12 +116,15 @@ func TestCalibEvalOutsideRange(t *testing.T) {
 	if err := os.WriteFile(file, []byte(out), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	got, warn, err := runCmd(t, "calib", "eval", "--calibration", file, "--unit", "Torr", "1.0", "--strict=false")
+	// The demo set scatters about an invented 0.8 V/decade with 4.0 V at
+	// 1 Torr; 0 V lies below its first point (0.8 V) and reads about
+	// 10^((0 − 4)/0.8) = 1e-5 Torr by hand.
+	got, warn, err := runCmd(t, "calib", "eval", "--calibration", file, "--unit", "Torr", "0.0", "--strict=false")
 	if err != nil || !strings.Contains(warn, "warning") || !strings.Contains(warn, "pressure below") {
 		t.Errorf("eval outside: err %v, stderr %q", err, warn)
 	}
 	if v, _ := strconv.ParseFloat(strings.TrimSpace(got), 64); math.Abs(v/1e-5-1) > 0.02 {
-		t.Errorf("eval 1.0 V printed %q, want about 1e-5 Torr", got)
+		t.Errorf("eval 0.0 V printed %q, want about 1e-5 Torr", got)
 	}
 	_, _, err = runCmd(t, "calib", "eval", "--calibration", file, "--strict", "-0.5")
 	if err == nil || !strings.Contains(err.Error(), "outside the calibrated raw range") {
@@ -162,6 +170,10 @@ func TestCalibHelpExplainsWorkflow(t *testing.T) {
 	}
 }
 
+// TestCalibPlot draws the demo set and reads the SVG back: it must carry the
+// axis labels and legend, one marker per point in the points' colour and one
+// per residual in theirs (foreline.csv has 18 rows), and a fitted curve of
+// many segments; an empty or half-drawn plot fails. The PNG only has to be one.
 func TestCalibPlot(t *testing.T) {
 	out, _, err := runCmd(t, "calib", "fit", "--points", filepath.Join("testdata", "calib", "foreline.csv"), "--model", "heat-loss", "--quiet")
 	if err != nil {
@@ -174,16 +186,92 @@ func TestCalibPlot(t *testing.T) {
 	}
 	for _, ext := range []string{"svg", "png"} {
 		img := filepath.Join(dir, "c."+ext)
-		if _, _, err := runCmd(t, "calib", "plot", "--calibration", file, "-o", img); err != nil {
+		if _, _, err := runCmd(t, "calib", "plot", "--calibration", file, "-o", img, "--unit", "mbar"); err != nil {
 			t.Fatalf("%s: %v", ext, err)
 		}
 		b, err := os.ReadFile(img)
 		if err != nil {
 			t.Fatal(err)
 		}
-		head := map[string]string{"svg": "<?xml", "png": "\x89PNG"}[ext]
-		if !bytes.HasPrefix(b, []byte(head)) || len(b) < 1000 {
-			t.Errorf("%s output starts %q (%d bytes)", ext, b[:min(len(b), 8)], len(b))
+		if ext == "png" {
+			if !bytes.HasPrefix(b, []byte("\x89PNG")) || len(b) < 1000 {
+				t.Errorf("png output starts %q (%d bytes)", b[:min(len(b), 8)], len(b))
+			}
+			continue
+		}
+		texts, paths := readSVG(t, b)
+		for _, w := range []string{"heat-loss calibration", "raw signal", "pressure (mbar)", "residual (%)", "reference points", "fitted curve"} {
+			if !slices.Contains(texts, w) {
+				t.Errorf("svg lacks the text %q; has %q", w, texts)
+			}
+		}
+		const rows = 18
+		if n := countStroke(paths, pointColor); n != rows+1 { // +1: the legend's marker
+			t.Errorf("%d markers in the points' colour, want %d points and the legend's", n, rows+1)
+		}
+		if n := countStroke(paths, residualColor); n != rows {
+			t.Errorf("%d markers in the residuals' colour, want %d", n, rows)
+		}
+		longest := 0
+		for _, p := range paths {
+			if strings.Contains(p.style, "stroke:"+svgHex(curveColor)) {
+				longest = max(longest, strings.Count(p.d, "L"))
+			}
+		}
+		if longest < 100 {
+			t.Errorf("the fitted curve has %d segments, want a curve of 100 or more", longest)
 		}
 	}
+}
+
+type svgPath struct{ d, style string }
+
+// readSVG returns the SVG's text contents (trimmed) and its paths.
+func readSVG(t *testing.T, b []byte) (texts []string, paths []svgPath) {
+	t.Helper()
+	dec := xml.NewDecoder(bytes.NewReader(b))
+	inText := false
+	for {
+		tok, err := dec.Token()
+		if err == io.EOF {
+			return texts, paths
+		}
+		if err != nil {
+			t.Fatalf("svg does not parse: %v", err)
+		}
+		switch el := tok.(type) {
+		case xml.StartElement:
+			inText = el.Name.Local == "text"
+			if el.Name.Local == "path" {
+				var p svgPath
+				for _, a := range el.Attr {
+					switch a.Name.Local {
+					case "d":
+						p.d = a.Value
+					case "style":
+						p.style = a.Value
+					}
+				}
+				paths = append(paths, p)
+			}
+		case xml.CharData:
+			if inText {
+				texts = append(texts, strings.TrimSpace(string(el)))
+			}
+		case xml.EndElement:
+			inText = false
+		}
+	}
+}
+
+func svgHex(c color.RGBA) string { return fmt.Sprintf("#%02X%02X%02X", c.R, c.G, c.B) }
+
+func countStroke(paths []svgPath, c color.RGBA) int {
+	n := 0
+	for _, p := range paths {
+		if strings.Contains(p.style, "stroke:"+svgHex(c)) {
+			n++
+		}
+	}
+	return n
 }

@@ -39,7 +39,7 @@ func columnFlagSet(stderr io.Writer) (*flag.FlagSet, *columnFlags) {
 	f := &columnFlags{}
 	fs.StringVar(&f.height, "height", "", "difference of the liquid levels, with a unit: 76cm, 760mm")
 	fs.StringVar(&f.density, "density", "", "liquid density with a unit, at --density-at: 870kg/m3")
-	fs.StringVar(&f.liquid, "liquid", "", "mercury: density from the CRC temperature law (conventional 13595.1 kg/m3 at 0 C)")
+	fs.StringVar(&f.liquid, "liquid", "", "mercury: density from the mercury table at --temperature (-10 to 340 C), else the conventional 13595.1 kg/m3")
 	fs.StringVar(&f.temp, "temperature", "", "the liquid's temperature, e.g. 24C (needs --expansion, or --liquid mercury)")
 	fs.StringVar(&f.densityAt, "density-at", "20C", "temperature the --density is quoted at")
 	fs.Float64Var(&f.expansion, "expansion", 0, "volumetric expansion coefficient of the liquid, per kelvin (e.g. 7e-4)")
@@ -87,7 +87,7 @@ func cmdColumn(ctx context.Context, args []string, stdout, stderr io.Writer) err
 		return err
 	}
 	fmt.Fprintf(stdout, "%s %s\n%s\n", sigDigits(v), unit.Symbol(), col.Kind())
-	fmt.Fprintf(stdout, "height %g m, density %.6g kg/m3, gravity %.8g m/s2 (%s)\n", col.Height, col.DensityNow(), col.Gravity, gnote)
+	fmt.Fprintf(stdout, "height %g m, density %.7g kg/m3, gravity %.8g m/s2 (%s)\n", col.Height, col.DensityNow(), col.Gravity, gnote)
 	return nil
 }
 
@@ -115,11 +115,15 @@ func (f *columnFlags) column() (calib.Column, calib.Unit, string, error) {
 			errs = append(errs, errors.New("--temperature needs --expansion to correct the density (or use --liquid mercury)"))
 		}
 	case "mercury", "hg":
-		t := 0.0
+		// Without a temperature: the conventional density, as the mmHg unit uses.
+		col.Density, col.Expansion = calib.ConventionalMercury, 0
 		if hasTemp {
-			t = col.Temperature
+			rho, err := calib.MercuryDensityAt(col.Temperature)
+			if err != nil {
+				errs = append(errs, fmt.Errorf("--temperature: %w", err))
+			}
+			col.Density = rho
 		}
-		col.Density, col.Expansion = calib.MercuryDensity(t), 0
 	default:
 		errs = append(errs, fmt.Errorf("--liquid %q: only mercury has a built-in density law; give --density and --expansion", f.liquid))
 	}
