@@ -91,6 +91,7 @@ func check(cfg *Config, prior []Problem) []Problem {
 		v.alarm(fmt.Sprintf("alarms[%d]", i), a, seen, i)
 	}
 	v.notifiers(cfg)
+	v.report(cfg.Report)
 	return v.probs
 }
 

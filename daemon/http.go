@@ -27,6 +27,7 @@ func (d *Daemon) handler() http.Handler {
 	mux.HandleFunc("GET /{$}", d.landing)
 	d.calibRoutes(mux)
 	d.alarmRoutes(mux)
+	d.reportRoutes(mux)
 	return mux
 }
 

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"iter"
 	"math"
 	"slices"
 	"time"
@@ -101,8 +102,9 @@ func (p PumpDown) Took() time.Duration {
 // reads above start (a vent), and is done at the first reading at or below
 // target. Over-range counts as above start, under-range as below target;
 // other not-ok readings say nothing.
-func FindPumpDown(points []Point, start, target float64) (began, reached time.Time, beganBefore bool) {
-	for i, p := range points {
+func FindPumpDown(points iter.Seq[Point], start, target float64) (began, reached time.Time, beganBefore bool) {
+	known := false // a reading that says where the pressure is came before
+	for p := range points {
 		v := p.Value
 		switch p.Quality {
 		case calib.QualityOK:
@@ -117,8 +119,9 @@ func FindPumpDown(points []Point, start, target float64) (began, reached time.Ti
 		case v > start:
 			began, beganBefore = time.Time{}, false
 		case began.IsZero():
-			began, beganBefore = p.At, i == 0
+			began, beganBefore = p.At, !known
 		}
+		known = true
 		if v <= target && !began.IsZero() {
 			return began, p.At, beganBefore
 		}

@@ -20,7 +20,7 @@ func TestFindPumpDown(t *testing.T) {
 	// says nothing, and 0.8 Pa at minute 47 reaches the target: 35 min.
 	pts := []Point{ok(0, 101000), ok(2, 85000), ok(5, 400), {At: at(10), Quality: calib.QualityOverRange},
 		ok(12, 70000), ok(15, 900), {At: at(20), Quality: calib.QualitySensorFault}, ok(30, 3), ok(47, 0.8), ok(50, 0.5)}
-	began, reached, before := FindPumpDown(pts, 90000, 1)
+	began, reached, before := FindPumpDown(slices.Values(pts), 90000, 1)
 	if !began.Equal(at(12)) || !reached.Equal(at(47)) || before {
 		t.Errorf("began %v reached %v before %v; want minute 12, minute 47, false", began, reached, before)
 	}
@@ -28,16 +28,16 @@ func TestFindPumpDown(t *testing.T) {
 		t.Errorf("took %s, want 35m", got)
 	}
 	// Already below start when the record begins: the time is a lower bound.
-	began, reached, before = FindPumpDown(pts[5:], 90000, 1)
+	began, reached, before = FindPumpDown(slices.Values(pts[5:]), 90000, 1)
 	if !began.Equal(at(15)) || !reached.Equal(at(47)) || !before {
 		t.Errorf("began %v reached %v before %v; want minute 15, minute 47, true", began, reached, before)
 	}
 	// Under-range counts as below the target (the rule reads it as 0).
-	_, reached, _ = FindPumpDown([]Point{ok(0, 50000), {At: at(3), Quality: calib.QualityUnderRange}}, 90000, 1e-3)
+	_, reached, _ = FindPumpDown(slices.Values([]Point{ok(0, 50000), {At: at(3), Quality: calib.QualityUnderRange}}), 90000, 1e-3)
 	if !reached.Equal(at(3)) {
 		t.Errorf("under-range: reached %v, want minute 3", reached)
 	}
-	if _, reached, _ = FindPumpDown(pts[:4], 90000, 1); !reached.IsZero() {
+	if _, reached, _ = FindPumpDown(slices.Values(pts[:4]), 90000, 1); !reached.IsZero() {
 		t.Errorf("not reached: got %v", reached)
 	}
 }

@@ -3,8 +3,8 @@ package report
 import (
 	"bytes"
 	"encoding/xml"
-	"fmt"
 	"flag"
+	"fmt"
 	"image"
 	"image/png"
 	"math"
@@ -67,7 +67,7 @@ func testNight(t testing.TB) *Night {
 		{Alarm: "wall-hot", Gauge: "wall-tc", Severity: "high", Raised: from.Add(3 * time.Hour), Cleared: from.Add(5 * time.Hour)},
 		{Alarm: "ion-gauge-silent", Gauge: "chamber-ion", Severity: "medium", Raised: from.Add(10 * time.Minute)},
 	}
-	began, reached, before := FindPumpDown(pir, 90000, 1)
+	began, reached, before := FindPumpDown(slices.Values(pir), 90000, 1)
 	n.PumpDowns = []PumpDown{{Alarm: "rough-in-time", Gauge: "chamber-pirani", Start: 90000, Target: 1, Within: 3 * time.Hour,
 		Began: began, Reached: reached, BeganBefore: before}}
 	n.HoldTests = []HoldTest{{ID: "000004", Gauge: "chamber-pirani", From: from.Add(9 * time.Hour), To: from.Add(9*time.Hour + 10*time.Minute),
