@@ -136,5 +136,9 @@ func (d *Daemon) apiReportFile(w http.ResponseWriter, r *http.Request) {
 
 // reportLink is where a person finds a written report.
 func (d *Daemon) reportLink(name string) string {
-	return d.cfg.reportURL(d.Addr()) + "/api/v1/reports/" + name
+	listen := d.cfg.HTTP.Listen
+	if d.ln != nil {
+		listen = d.Addr()
+	}
+	return d.cfg.reportURL(listen) + "/api/v1/reports/" + name
 }
