@@ -48,7 +48,7 @@ func (d *Daemon) apiReport(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	w.Header().Set("Content-Type", report.ContentType(format))
-	w.Header().Set("Content-Disposition", `inline; filename="`+reportFileName(d.cfg.Chamber.Name, to, format)+`"`)
+	w.Header().Set("Content-Disposition", `inline; filename="`+ReportFileName(d.cfg.Chamber.Name, to, format)+`"`)
 	_, _ = w.Write(buf.Bytes())
 }
 

@@ -96,7 +96,7 @@ func (d *Daemon) scheduledReport(at time.Time, rc *ReportConfig) (string, error)
 	return path, nil
 }
 
-// WriteReportFile writes the night's report into dir under its usual name
+// writeReportFile writes the night's report into dir under its usual name
 // and returns the path; the file appears whole or not at all.
 func writeReportFile(dir string, n *report.Night, format string) (string, error) {
 	var buf bytes.Buffer
@@ -106,7 +106,7 @@ func writeReportFile(dir string, n *report.Night, format string) (string, error)
 	if err := os.MkdirAll(dir, 0o750); err != nil {
 		return "", fmt.Errorf("report directory: %w", err)
 	}
-	path := filepath.Join(dir, reportFileName(n.Chamber, n.To, format))
+	path := filepath.Join(dir, ReportFileName(n.Chamber, n.To, format))
 	tmp, err := os.CreateTemp(dir, ".report-*")
 	if err != nil {
 		return "", err
@@ -131,20 +131,11 @@ func writeReportFile(dir string, n *report.Night, format string) (string, error)
 	return path, nil
 }
 
-// WriteReportFile writes the daemon's report of from–to into dir (the
-// demo's data directory, say) and returns its path.
-func (d *Daemon) WriteReportFile(dir string, from, to time.Time, format string) (string, error) {
-	n, err := d.Night(from, to)
-	if err != nil {
-		return "", err
-	}
-	return writeReportFile(dir, n, format)
-}
-
 var unsafeName = regexp.MustCompile(`[^A-Za-z0-9._-]+`)
 
-// reportFileName is "report-<chamber>-<end, local, to the minute>.<format>".
-func reportFileName(chamber string, to time.Time, format string) string {
+// ReportFileName is a report's file name: "report-<chamber>-<end, local
+// time to the minute>.<format>".
+func ReportFileName(chamber string, to time.Time, format string) string {
 	c := strings.Trim(unsafeName.ReplaceAllString(chamber, "-"), "-.")
 	return "report-" + c + "-" + to.In(time.Local).Format("2006-01-02T1504") + "." + format
 }

@@ -62,6 +62,7 @@ var commands = map[string]command{
 	"ports":     {"list serial ports", cmdPorts},
 	"probe":     {"run one gauge's exchange and show the bytes", cmdProbe},
 	"simulate":  {"serve the simulated chamber's instruments on a pseudo-terminal", cmdSimulate},
+	"report":    {"draw the report of a night: pressures, temperatures, alarms, hold tests", cmdReport},
 }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {

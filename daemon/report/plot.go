@@ -97,7 +97,7 @@ func newFigure(n *Night) (*figure, error) {
 		bottom = f.temp
 	}
 	bottom.X.Tick.Marker = timeTicks{loc: n.loc()}
-	bottom.X.Label.Text = "time (" + n.loc().String() + ")"
+	bottom.X.Label.Text = "time (" + zoneName(n.To.In(n.loc())) + ")"
 	return f, nil
 }
 
