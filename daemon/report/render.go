@@ -87,8 +87,23 @@ func writePicture(w io.Writer, n *Night, format string, header bool) error {
 		cv = pdf
 	}
 	f.draw(draw.New(cv), l, lines)
-	_, err = cv.WriteTo(w)
+	if format != "svg" {
+		_, err = cv.WriteTo(w)
+		return err
+	}
+	var buf bytes.Buffer
+	if _, err := cv.WriteTo(&buf); err != nil {
+		return err
+	}
+	_, err = w.Write(svgFonts(buf.Bytes()))
 	return err
+}
+
+// svgFonts gives the SVG's font a fallback, so that a viewer without the
+// Liberation fonts (which have Arial's metrics) still draws a sans-serif.
+func svgFonts(b []byte) []byte {
+	return bytes.ReplaceAll(b, []byte("font-family:Liberation Sans;"),
+		[]byte("font-family:'Liberation Sans',Arial,Helvetica,sans-serif;"))
 }
 
 // layout is the height of each band of the picture, top to bottom.

@@ -215,13 +215,18 @@ func TestSVGLabelsGapsAndShading(t *testing.T) {
 }
 
 func TestHTMLIsSelfContained(t *testing.T) {
-	b := string(render(t, testNight(t), "html"))
+	n := testNight(t)
+	n.Chamber = "bake-2 <b>&"
+	b := string(render(t, n, "html"))
+	if strings.Contains(b, "<b>") || !strings.Contains(b, "bake-2 &lt;b&gt;&amp;") {
+		t.Error("the chamber's name is not escaped in the HTML or its SVG")
+	}
 	for _, bad := range []string{"<script", "src=", "href=", "url(", "@import", "<link"} {
 		if strings.Contains(b, bad) {
 			t.Errorf("HTML contains %q: it must open from a mail with no network", bad)
 		}
 	}
-	for _, want := range []string{"<svg", "bake-2", "1.00e-05 mbar", "no data: never answered in this period",
+	for _, want := range []string{"<svg", "sans-serif", "1.00e-05 mbar", "no data: never answered in this period",
 		"2 raised, 1 cleared", "1 still active", "150 °C", "rough-in-time", "monitoring aid"} {
 		if !strings.Contains(b, want) {
 			t.Errorf("HTML lacks %q", want)
