@@ -221,3 +221,30 @@ func (n *Night) loc() *time.Location {
 	}
 	return time.UTC
 }
+
+// clipped is n restricted to its period: points in [From, To), the alarm
+// periods and hold tests that overlap it, and an alarm cleared after To
+// counted as still active (it was, when the period ended).
+func (n *Night) clipped() *Night {
+	c := *n
+	in := func(t time.Time) bool { return !t.Before(n.From) && t.Before(n.To) }
+	c.Series = make([]Series, len(n.Series))
+	for i, s := range n.Series {
+		s.Points = slices.DeleteFunc(slices.Clone(s.Points), func(p Point) bool { return !in(p.At) })
+		c.Series[i] = s
+	}
+	c.Alarms = nil
+	for _, a := range n.Alarms {
+		if !a.Raised.Before(n.To) || !a.Cleared.IsZero() && a.Cleared.Before(n.From) {
+			continue
+		}
+		if !a.Cleared.IsZero() && !a.Cleared.Before(n.To) {
+			a.Cleared = time.Time{}
+		}
+		c.Alarms = append(c.Alarms, a)
+	}
+	c.HoldTests = slices.DeleteFunc(slices.Clone(n.HoldTests), func(h HoldTest) bool {
+		return !h.From.Before(n.To) || !h.To.After(n.From)
+	})
+	return &c
+}

@@ -1,8 +1,14 @@
 package report
 
 import (
+	"bytes"
+	"fmt"
+	"io"
 	"math"
+	"os"
+	"path/filepath"
 	"slices"
+	"strings"
 	"testing"
 	"time"
 
@@ -116,3 +122,51 @@ func TestRunsBreakAtGapsAndBadReadings(t *testing.T) {
 		t.Errorf("runs of %v and %d markers; want [3 2 1 2] and 2", lens, len(bad))
 	}
 }
+
+// Odd nights still render in every format: nothing stored at all, ten
+// minutes, a week, and a dozen alarms.
+func TestRenderEdgeCases(t *testing.T) {
+	base := testNight(t)
+	empty := *base
+	empty.Series = []Series{{Gauge: "silent", Kind: "pressure"}, {Gauge: "tc", Kind: "temperature"}}
+	empty.Alarms, empty.HoldTests, empty.PumpDowns = nil, nil, nil
+	short := *base
+	short.To = short.From.Add(10 * time.Minute)
+	week := *base
+	week.To = week.From.Add(7 * 24 * time.Hour)
+	busy := *base
+	busy.Alarms = nil
+	for i := range 12 {
+		busy.Alarms = append(busy.Alarms, AlarmPeriod{Alarm: fmt.Sprintf("alarm-%02d", i), Severity: severities[i%4],
+			Raised: base.From.Add(time.Duration(i) * time.Hour), Cleared: base.From.Add(time.Duration(i)*time.Hour + 40*time.Minute)})
+	}
+	for name, n := range map[string]*Night{"empty": &empty, "short": &short, "week": &week, "busy": &busy} {
+		for _, f := range Formats {
+			var buf bytes.Buffer
+			if err := Write(&buf, n, f); err != nil {
+				t.Errorf("%s %s: %v", name, f, err)
+			}
+			if *keep != "" && f == "png" {
+				os.WriteFile(filepath.Join(*keep, name+".png"), buf.Bytes(), 0o644)
+			}
+		}
+	}
+	// The short night holds only its first ten minutes: the Pirani's
+	// 1e5·e^(-6h) Pa, read every 30 s, falls from 1000 mbar to its last
+	// reading at 19:09:30, 1000·e^(-6 × 9.5/60) = 1000·e^(-0.95) = 387
+	// mbar; the alarm raised at 19:10 is outside, and none is active.
+	var buf bytes.Buffer
+	if err := Write(&buf, &short, "html"); err != nil {
+		t.Fatal(err)
+	}
+	if h := buf.String(); !strings.Contains(h, "387 mbar at 19:09:30") || !strings.Contains(h, "0 raised, 0 cleared") || strings.Contains(h, "ion-gauge-silent") {
+		t.Errorf("the short night shows what lies outside it:\n%s", h[:strings.Index(h, "<figure>")])
+	}
+	bad := *base
+	bad.To = bad.From
+	if err := Write(io.Discard, &bad, "svg"); err == nil {
+		t.Error("an empty period rendered; want an error")
+	}
+}
+
+var severities = []string{"low", "medium", "high", "critical"}

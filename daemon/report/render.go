@@ -57,6 +57,10 @@ func Write(w io.Writer, n *Night, format string) error {
 	if !slices.Contains(Formats, format) {
 		return fmt.Errorf("format %q: want one of %s", format, strings.Join(Formats, ", "))
 	}
+	if !n.To.After(n.From) {
+		return fmt.Errorf("empty period %s to %s", n.From.Format(time.RFC3339), n.To.Format(time.RFC3339))
+	}
+	n = n.clipped()
 	if format == "html" {
 		return writeHTML(w, n)
 	}
