@@ -143,7 +143,14 @@ func reportSeries(cfg *Config, db *store.DB, name string, from, to time.Time) (r
 	for _, p := range pts {
 		s.Points = append(s.Points, reportPoint(p))
 	}
-	return s, err
+	cerr := db.Range(name, from, to, func(p store.Point) bool {
+		s.Stored++
+		if p.Quality != 0 {
+			s.NotOK++
+		}
+		return true
+	})
+	return s, errors.Join(err, cerr)
 }
 
 func reportPoint(p store.Point) report.Point {

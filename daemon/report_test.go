@@ -177,7 +177,10 @@ func TestReportGathersGapsSilentGaugeAndActiveAlarm(t *testing.T) {
 		}
 		if f == "html" {
 			for _, want := range []string{"ion</td>", "no data: never answered", "1 still active", "ion-silent [medium] raised",
-				"0.01 mbar reached at", "1 h 36 min after pumping began", "150 °C"} {
+				"0.01 mbar reached at", "1 h 36 min after pumping began", "150 °C",
+				// 10 h at 10 s is 3600 readings, less the 30 min gap (180):
+				// 3420, of which the 20 min of faults (120) are not ok, 3.5 %.
+				"3420 readings, 120 not ok (3.5 %)"} {
 				if !strings.Contains(buf.String(), want) {
 					t.Errorf("html lacks %q", want)
 				}

@@ -42,13 +42,13 @@ func (n *Night) gaugeRows() []gaugeRow {
 		case g.NoData:
 			r.Status, r.Missing = "no data: never answered in this period", true
 		case g.Points == 0:
-			r.Status, r.Missing = fmt.Sprintf("no valid reading (%d not ok, last %s)", g.Bad, g.LastStatus), true
+			r.Status, r.Missing = fmt.Sprintf("no valid reading (%d not ok, last %s)", g.NotOK, g.LastStatus), true
 		default:
 			r.Min, r.Max = calib.Format(g.Min, u), calib.Format(g.Max, u)
 			r.Final = calib.Format(g.Final, u) + " at " + n.clock(g.FinalAt)
-			r.Status = "ok"
-			if g.Bad > 0 {
-				r.Status = fmt.Sprintf("%d readings not ok", g.Bad)
+			r.Status = fmt.Sprintf("%d readings, all ok", g.Stored)
+			if g.NotOK > 0 {
+				r.Status = fmt.Sprintf("%d readings, %d not ok (%.1f %%)", g.Stored, g.NotOK, 100*float64(g.NotOK)/float64(g.Stored))
 			}
 			if g.LastStatus != calib.QualityOK {
 				r.Status += "; last reading " + g.LastStatus.String()
@@ -69,11 +69,13 @@ func (n *Night) clock(t time.Time) string {
 	return t.Format("Jan 2 15:04:05")
 }
 
-// Duration writes d as people read it: "1 h 05 min", "12 min 30 s".
+// Duration writes d as people read it: "3 d 04 h", "1 h 05 min", "12 min 30 s".
 func Duration(d time.Duration) string {
 	d = d.Round(time.Second)
 	h, m, s := int(d.Hours()), int(d.Minutes())%60, int(d.Seconds())%60
 	switch {
+	case h >= 48:
+		return fmt.Sprintf("%d d %02d h", h/24, h%24)
 	case h > 0:
 		return fmt.Sprintf("%d h %02d min", h, m)
 	case m > 0:

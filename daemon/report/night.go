@@ -33,6 +33,9 @@ type Series struct {
 	// further apart, the line breaks (the gauge was not read, or not stored).
 	MaxStep time.Duration
 	Points  []Point // in time order
+	// Stored and NotOK count every sample of the period, when the gatherer
+	// counted them (Points may be a reduction); zero means count Points.
+	Stored, NotOK int
 }
 
 // A Point is one stored sample; Value is meaningful only when Quality is ok.
@@ -134,7 +137,9 @@ type GaugeSummary struct {
 	Gauge      string
 	Kind       string
 	Points     int // ok points drawn
-	Bad        int // not-ok points
+	Bad        int // not-ok points drawn
+	Stored     int // samples in the period (Series.Stored, else the points drawn)
+	NotOK      int // of them not ok
 	Min, Max   float64
 	Final      float64 // the last ok value
 	FinalAt    time.Time
@@ -157,6 +162,10 @@ func (n *Night) Summaries() []GaugeSummary {
 			g.Points++
 			g.Min, g.Max = min(g.Min, p.Value), max(g.Max, p.Value)
 			g.Final, g.FinalAt, g.LastStatus = p.Value, p.At, calib.QualityOK
+		}
+		g.Stored, g.NotOK = s.Stored, s.NotOK
+		if g.Stored == 0 {
+			g.Stored, g.NotOK = g.Points+g.Bad, g.Bad
 		}
 		out = append(out, g)
 	}

@@ -170,3 +170,14 @@ func TestRenderEdgeCases(t *testing.T) {
 }
 
 var severities = []string{"low", "medium", "high", "critical"}
+
+func TestDuration(t *testing.T) {
+	for d, want := range map[time.Duration]string{
+		42 * time.Second: "42 s", 12*time.Minute + 30*time.Second: "12 min 30 s", 65 * time.Minute: "1 h 05 min",
+		47*time.Hour + 59*time.Minute: "47 h 59 min", 7 * 24 * time.Hour: "7 d 00 h", 76 * time.Hour: "3 d 04 h",
+	} {
+		if got := Duration(d); got != want {
+			t.Errorf("Duration(%s) = %q, want %q", d, got, want)
+		}
+	}
+}
