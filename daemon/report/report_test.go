@@ -256,7 +256,7 @@ func TestPNGHasLabelsAndIsNotBlank(t *testing.T) {
 		box  image.Rectangle
 	}{
 		{"pressure axis label", image.Rect(w*2/100, h*25/100, w*10/100, h*45/100)},
-		{"decade labels", image.Rect(w*8/100, h*15/100, w*14/100, h*50/100)},
+		{"decade labels", image.Rect(w*8/100, h*15/100, w*12/100, h*50/100)},
 	} {
 		if v := ink(img, r.box); v < 50 {
 			t.Errorf("%s: only %d dark pixels in %v", r.name, v, r.box)
