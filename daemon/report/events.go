@@ -134,9 +134,8 @@ func (f *figure) legendForShading() {
 	for _, sev := range []string{"critical", "high", "medium", "low", ""} {
 		found := false
 		for _, a := range f.n.Alarms {
-			if a.Severity == sev || (sev == "" && severityColors[a.Severity] == (color.RGBA{})) {
-				found = true
-			}
+			_, known := severityColors[a.Severity]
+			found = found || a.Severity == sev || sev == "" && !known
 		}
 		if !found {
 			continue
