@@ -160,27 +160,7 @@ func (d *Daemon) simValve(gauge string, closed bool) bool {
 
 // recentHoldTests returns the newest hold tests (at most n), oldest first.
 func (d *Daemon) recentHoldTests(n int) ([]HoldTestJSON, error) {
-	st := alarmstore.Wrap(d.store.Bolt())
-	ids, err := st.HoldTestIDs()
-	if err != nil {
-		return nil, err
-	}
-	if n > 0 && len(ids) > n {
-		ids = ids[len(ids)-n:]
-	}
-	var out []HoldTestJSON
-	for _, id := range ids {
-		b, err := st.HoldTest(id, "report.json")
-		if err != nil {
-			continue // reserved but not written (a crash between the two): nothing to run or show
-		}
-		var h HoldTestJSON
-		if err := json.Unmarshal(b, &h); err != nil {
-			return out, fmt.Errorf("hold test %s: stored report unreadable: %w", id, err)
-		}
-		out = append(out, h)
-	}
-	return out, nil
+	return storedHoldTests(alarmstore.Wrap(d.store.Bolt()), n)
 }
 
 // holdTests advances running hold tests at now: wait for the valve, settle,

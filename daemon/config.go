@@ -15,6 +15,7 @@ type Config struct {
 	Gauges  map[string]*GaugeConfig `yaml:"gauges"`
 	Alarms  []*AlarmConfig          `yaml:"alarms"`
 	Notify  []*NotifyConfig         `yaml:"notify"`
+	Report  *ReportConfig           `yaml:"report"`
 
 	// Notes are remarks from checking that are not problems (a secret file
 	// not readable on the checking machine), each "LINE: note: ...".

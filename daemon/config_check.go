@@ -91,6 +91,7 @@ func check(cfg *Config, prior []Problem) []Problem {
 		v.alarm(fmt.Sprintf("alarms[%d]", i), a, seen, i)
 	}
 	v.notifiers(cfg)
+	v.report(cfg.Report)
 	slices.SortStableFunc(cfg.Notes, func(a, b string) int { return cmp.Compare(noteLine(a), noteLine(b)) })
 	return v.probs
 }

@@ -166,6 +166,7 @@ func (d *Daemon) Run(parent context.Context) error {
 	wg.Go(func() { d.notifyLoop(ctx) })
 	wg.Go(func() { d.retentionLoop(ctx) })
 	wg.Go(func() { d.systemdLoop(ctx) })
+	wg.Go(func() { d.reportLoop(ctx) })
 	d.log.Info("daemon started", "chamber", d.cfg.Chamber.Name, "gauges", len(d.gauges), "listen", d.Addr())
 	<-ctx.Done()
 	shut, done := context.WithTimeout(context.Background(), 3*time.Second)

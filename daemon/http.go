@@ -28,6 +28,7 @@ func (d *Daemon) handler() http.Handler {
 	d.calibRoutes(mux)
 	d.alarmRoutes(mux)
 	d.seriesRoutes(mux)
+	d.reportRoutes(mux)
 	return mux
 }
 

@@ -68,7 +68,8 @@ func (x *Exec) run(ctx context.Context, t Transition) error {
 // Environ is t as environment variables: HOLDFAST_CHAMBER, _ALARM, _GAUGE,
 // _SEVERITY, _EVENT, _STATE, _VALUE, _LIMIT, _UNIT (value and limit in that
 // unit, empty when not known), _MESSAGE, _AT (RFC 3339, UTC), _SINCE,
-// _DEDUPE_KEY, _REMINDER (0 for the event itself) and _SUMMARY.
+// _DEDUPE_KEY, _REMINDER (0 for the event itself), _SUMMARY and _LINK (a
+// report event's URL, else empty).
 func Environ(t Transition) []string {
 	since := ""
 	if !t.Since.IsZero() {
@@ -79,7 +80,7 @@ func Environ(t Transition) []string {
 		{"EVENT", t.Event}, {"STATE", t.State}, {"VALUE", number(t.Value)}, {"LIMIT", number(t.Limit)},
 		{"UNIT", t.Unit}, {"MESSAGE", t.Message}, {"AT", t.At.UTC().Format(time.RFC3339Nano)},
 		{"SINCE", since}, {"DEDUPE_KEY", t.DedupeKey}, {"REMINDER", strconv.Itoa(t.Reminder)},
-		{"SUMMARY", Summary(t)},
+		{"SUMMARY", Summary(t)}, {"LINK", t.Link},
 	}
 	env := make([]string, len(kv))
 	for i, p := range kv {

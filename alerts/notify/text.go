@@ -13,6 +13,9 @@ const Caution = "holdfast is a monitoring aid, not a safety interlock: " +
 // Summary is one line about a transition: chamber, alarm, what happened,
 // and the numbers when known.
 func Summary(t Transition) string {
+	if t.Event == EventReport {
+		return t.Chamber + ": " + t.Message
+	}
 	var b strings.Builder
 	fmt.Fprintf(&b, "%s: %s %s", t.Chamber, t.Alarm, t.Event)
 	if t.Reminder > 0 {
@@ -56,12 +59,16 @@ func Describe(t Transition) string {
 		line("reminder", fmt.Sprintf("%d (not acknowledged yet)", t.Reminder))
 	}
 	line("message", t.Message)
+	line("link", t.Link)
 	line("key", t.DedupeKey)
 	return b.String()
 }
 
 // Subject is a one-line title for a batch.
 func Subject(batch []Transition) string {
+	if len(batch) == 1 && batch[0].Event == EventReport {
+		return "[report] " + Summary(batch[0])
+	}
 	if len(batch) == 1 {
 		return "[" + batch[0].Severity + "] " + Summary(batch[0])
 	}

@@ -13,6 +13,9 @@ const (
 	EventAcknowledged = "acknowledged"
 	EventShelved      = "shelved"
 	EventUnshelved    = "unshelved"
+	// EventReport is no alarm: a scheduled report was written; Link says
+	// where it is and Message what it holds.
+	EventReport = "report"
 )
 
 // States after a transition, named as in IEC 62682 / ISA-18.2.
@@ -43,6 +46,7 @@ type Transition struct {
 	Since     time.Time `json:"since,omitzero"` // when the alarm became active, if it is
 	DedupeKey string    `json:"dedupe_key"`     // unique per transition and per reminder
 	Reminder  int       `json:"reminder"`       // 0: the event itself; n: the n-th reminder of it
+	Link      string    `json:"link,omitempty"` // report events: the report's URL
 }
 
 // Active reports whether the alarm's condition is present in this state,

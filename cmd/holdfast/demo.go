@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"crypto/rand"
 	_ "embed"
@@ -86,7 +87,30 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	if err := d.Run(ctx); err != nil {
 		return err
 	}
-	return demoSummary(stdout, d, dir, clock.Now().Sub(start))
+	if err := demoSummary(stdout, d, dir, clock.Now().Sub(start)); err != nil {
+		return err
+	}
+	return demoReport(stdout, cfg, start, clock.Now(), *data != "" || *keep)
+}
+
+// demoReport writes the report of the run (the daemon has stopped, so the
+// data directory opens read-only) into the data directory when it is kept,
+// else into the system's temporary directory, and prints its path.
+func demoReport(w io.Writer, cfg *daemon.Config, from, to time.Time, kept bool) error {
+	var buf bytes.Buffer
+	if err := daemon.ReportFromDir(&buf, cfg, from, to, "html"); err != nil {
+		return fmt.Errorf("report of the run: %w", err)
+	}
+	dir := cfg.Store.Dir
+	if !kept {
+		dir = os.TempDir()
+	}
+	path := filepath.Join(dir, daemon.ReportFileName(cfg.Chamber.Name, to, "html"))
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		return fmt.Errorf("report of the run: %w", err)
+	}
+	fmt.Fprintf(w, "  report of the run: %s\n", path)
+	return nil
 }
 
 // demoScenario loads the built-in scenario, or file. The demo runs on the

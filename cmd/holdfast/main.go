@@ -66,6 +66,7 @@ var commands = map[string]command{
 	"export":    {"write stored samples as CSV, JSON lines or OpenMetrics", cmdExport},
 	"import":    {"load history from a CSV file into a data directory", cmdImport},
 	"db":        {"store file: stats, compact, backup", cmdDB},
+	"report":    {"draw the report of a night: pressures, temperatures, alarms, hold tests", cmdReport},
 }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
