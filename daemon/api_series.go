@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"net/http"
-	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -43,26 +42,7 @@ func (d *Daemon) pickSeries(r *http.Request) ([]string, error) {
 	for _, g := range d.gauges {
 		known = append(known, g.name)
 	}
-	slices.Sort(known)
-	known = slices.Compact(known)
-	var out []string
-	for _, v := range r.URL.Query()["gauge"] {
-		for _, s := range strings.Split(v, ",") {
-			switch {
-			case s == "all":
-				out = append(out, known...)
-			case !slices.Contains(known, s):
-				return nil, fmt.Errorf("gauge %q: not a configured gauge nor a stored series (known: %s)", s, strings.Join(known, ", "))
-			default:
-				out = append(out, s)
-			}
-		}
-	}
-	if len(out) == 0 {
-		return nil, fmt.Errorf("gauge: missing; name one or more (gauge=a&gauge=b, gauge=a,b or gauge=all; known: %s)", strings.Join(known, ", "))
-	}
-	slices.Sort(out)
-	return slices.Compact(out), nil
+	return seriesio.PickGauges(r.URL.Query()["gauge"], known)
 }
 
 // span reads from and to (RFC 3339, Unix seconds, now, or -8h); from

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"net/url"
-	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -134,23 +133,7 @@ func expandSeries(db *store.DB, gauges []string) ([]string, error) {
 	if err != nil {
 		return nil, err
 	}
-	var out []string
-	for _, g := range gauges {
-		for _, s := range strings.Split(g, ",") {
-			switch {
-			case s == "all":
-				out = append(out, known...)
-			case !slices.Contains(known, s):
-				return nil, fmt.Errorf("gauge %q: no samples stored under that name (stored: %s)", s, strings.Join(known, ", "))
-			default:
-				out = append(out, s)
-			}
-		}
-	}
-	if len(out) == 0 {
-		return nil, errors.New("the store holds no series yet")
-	}
-	return out, nil
+	return seriesio.PickGauges(gauges, known)
 }
 
 // multiFlag collects a repeated flag.

@@ -8,7 +8,6 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"net"
 	"net/http"
 	"net/url"
 	"os"
@@ -101,7 +100,7 @@ func reportBytes(ctx context.Context, api *apiClient, daemonSet bool, file, data
 			return nil, err
 		}
 		if !daemonSet {
-			api.base = "http://" + dialable(cfg.HTTP.Listen)
+			api.base = "http://" + loopbackFor(cfg.HTTP.Listen)
 		}
 		fmt.Fprintf(stderr, "holdfast report: a daemon holds %s; asking it at %s\n", cfg.Store.Dir, api.base)
 	} else {
@@ -109,19 +108,6 @@ func reportBytes(ctx context.Context, api *apiClient, daemonSet bool, file, data
 	}
 	q := url.Values{"from": {from.Format(time.RFC3339Nano)}, "to": {to.Format(time.RFC3339Nano)}, "format": {format}}
 	return api.fetch(ctx, "/api/v1/report?"+q.Encode())
-}
-
-// dialable turns a listen address into one to connect to: a wildcard
-// host (0.0.0.0, ::, none) becomes the loopback address.
-func dialable(listen string) string {
-	host, port, err := net.SplitHostPort(listen)
-	if err != nil {
-		return listen
-	}
-	if ip := net.ParseIP(host); host == "" || ip != nil && ip.IsUnspecified() {
-		host = "127.0.0.1"
-	}
-	return net.JoinHostPort(host, port)
 }
 
 // fetch GETs path and returns the body as it is (a report, not JSON).
