@@ -62,7 +62,7 @@ func TestDamagedChunkIsReportedAndOthersStayReadable(t *testing.T) {
 		{"bit flip", func(b []byte) []byte { b[len(b)/2] ^= 0x10; return b }, "checksum mismatch"},
 		{"torn", func(b []byte) []byte { return b[:len(b)/3] }, "checksum mismatch"},
 		{"empty", func(b []byte) []byte { return []byte{} }, "too short"},
-		{"newer format", func(b []byte) []byte { b[0] = 2; return b }, "version 2"},
+		{"newer format", func(b []byte) []byte { b[0] = 3; return b }, "version 3"},
 	}
 	mid := pts[1024].At
 	for _, c := range cases {
