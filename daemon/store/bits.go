@@ -82,6 +82,11 @@ func (w *bitWriter) reset() { w.buf, w.acc, w.nacc = w.buf[:0], 0, 0 }
 // expGolomb appends x as an order-k exponential-Golomb code: k+1 bits for
 // x < 2^k, growing by two bits per doubling beyond that, for any uint64.
 func (w *bitWriter) expGolomb(x uint64, k uint) {
+	if q := x >> k; q < 1<<20 && k <= 23 { // the whole code fits in one write
+		z := uint(bits.Len64(q+1)) - 1
+		w.write((q+1)<<k|x&(1<<k-1), 2*z+1+k)
+		return
+	}
 	q := x >> k
 	z := uint(bits.Len64(q+1)) - 1 // leading zeros; q+1 wraps to 0 only for q = 2^64-1
 	if q == ^uint64(0) {
@@ -140,6 +145,14 @@ func (r *bitReader) bit() (bool, error) {
 
 // expGolomb reads an order-k exponential-Golomb code.
 func (r *bitReader) expGolomb(k uint) (uint64, error) {
+	if k <= 16 && r.pos+64 <= len(r.buf)*8 { // fast path: a short code within the next 57 bits
+		w := r.word(r.pos>>3) << uint(r.pos&7)
+		if z := uint(bits.LeadingZeros64(w)); z <= 20 {
+			total := 2*z + 1 + k
+			r.pos += int(total)
+			return w>>(64-total) - 1<<k, nil
+		}
+	}
 	var z uint
 	for {
 		b, err := r.bit()

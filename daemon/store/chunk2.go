@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"hash/crc32"
 	"math"
+	"slices"
 	"sync"
 	"time"
 )
@@ -135,6 +136,7 @@ func decodeChunk2(dst []Point, h chunkHead) ([]Point, error) {
 			return dst, errCorruptField("quality column")
 		}
 	}
+	dst = slices.Grow(dst, n)
 	for i := range n {
 		dst = append(dst, Point{At: time.Unix(0, d.ns[i]).UTC(), Raw: d.raws[i], Value: d.vals[i],
 			Quality: uint8(d.qs[i]), Calibration: d.cals[i]})

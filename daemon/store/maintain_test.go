@@ -114,7 +114,7 @@ func TestFlushMovesADamagedOpenChunkAside(t *testing.T) {
 }
 
 func TestRewriteAppliesANewCalibration(t *testing.T) {
-	pts := ion(4 * 3600)
+	pts := truncated(ion(4*3600), DefaultResolution)
 	db := storeFlushed(t, pts)
 	from, to := nightStart.Add(time.Hour), nightStart.Add(3*time.Hour)
 	recal := func(p Point) Point {
