@@ -230,7 +230,6 @@ func BenchmarkQuery8h(b *testing.B) {
 	})
 }
 
-
 func TestXORBaselineRoundTrips(t *testing.T) {
 	// The baseline must be lossless on the night (times are whole ms there),
 	// or its sizes would not be a fair comparison.

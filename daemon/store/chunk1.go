@@ -97,4 +97,3 @@ func decodeChunk1(h chunkHead) ([]Point, error) {
 	}
 	return pts, nil
 }
-

@@ -151,15 +151,7 @@ func checkTimeCount(r bitReader, h chunkHead) error {
 	if h.n < 2 {
 		return nil
 	}
-	gm1, err := r.expGolomb(0)
-	if err != nil {
-		return err
-	}
-	period, err := r.expGolomb(0)
-	if err != nil {
-		return err
-	}
-	regular, err := r.bit()
+	g, period, regular, _, err := timeHeader(&r, h.first, h.last)
 	if err != nil {
 		return err
 	}
@@ -169,12 +161,13 @@ func checkTimeCount(r bitReader, h chunkHead) error {
 		}
 		return nil
 	}
-	span := uint64(h.last - h.first)
-	if gm1 == math.MaxUint64 || span%(gm1+1) != 0 {
-		return errCorruptField("time unit")
+	var u uint64
+	var a anchor
+	for range h.n - 1 {
+		u = a.predict(period)
+		a.follow(period, 0, u)
 	}
-	units := span / (gm1 + 1)
-	if (period == 0 && units != 0) || (period != 0 && (units%period != 0 || units/period != uint64(h.n-1))) {
+	if u != uint64(h.last-h.first)/g {
 		return errCorruptField("time column (regular times disagree with the header)")
 	}
 	return nil
