@@ -131,18 +131,10 @@ type floatScratch struct {
 // encodeFloats2 writes vals (at least one) with the smallest of the
 // decimal, XOR and repeated-value codecs.
 func encodeFloats2(w *bitWriter, vals []float64, s *floatScratch) {
-	first := math.Float64bits(vals[0])
-	same := true
-	for _, v := range vals[1:] {
-		if math.Float64bits(v) != first {
-			same = false
-			break
-		}
-	}
-	if same {
+	if allSame(vals) {
 		if _, ok := decimalInt(vals[0], 0); !ok { // a decimal repeated costs less below
 			w.write(col2Same, 2)
-			w.write(first, 64)
+			w.write(math.Float64bits(vals[0]), 64)
 			return
 		}
 	}
@@ -168,6 +160,17 @@ func encodeFloats2(w *bitWriter, vals []float64, s *floatScratch) {
 	w.write(uint64(x+maxExp), 6)
 	writeExceptions(w, vals, s.exc, s.ints)
 	encodeInts(w, s.ints)
+}
+
+// allSame reports whether every value has the first one's bits.
+func allSame(vals []float64) bool {
+	first := math.Float64bits(vals[0])
+	for _, v := range vals[1:] {
+		if math.Float64bits(v) != first {
+			return false
+		}
+	}
+	return true
 }
 
 // decimalCost estimates the decimal codec's bits for the integers.

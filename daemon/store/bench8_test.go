@@ -2,6 +2,7 @@ package store
 
 import (
 	"path/filepath"
+	"runtime"
 	"testing"
 
 	bolt "go.etcd.io/bbolt"
@@ -242,5 +243,42 @@ func TestXORBaselineRoundTrips(t *testing.T) {
 			t.Fatal(err)
 		}
 		samePoints(t, got, c)
+	}
+}
+
+// BenchmarkResidentNight stores the night at the daemon's cadence (one
+// flush per second of data, 80 samples) and reports what it leaves in
+// memory: the mapped file's resident bytes and the store's heap growth,
+// per sample, with the file's size beside them.
+func BenchmarkResidentNight(b *testing.B) {
+	data := night8()
+	for b.Loop() {
+		b.StopTimer()
+		runtime.GC()
+		var before runtime.MemStats
+		runtime.ReadMemStats(&before)
+		db := openTemp(b, Options{})
+		b.StartTimer()
+		for i := 0; i < night8Samples; i += 10 {
+			for _, name := range night8Names {
+				appendAll(db, name, data[name][i:i+10])
+			}
+			if err := db.Flush(); err != nil {
+				b.Fatal(err)
+			}
+		}
+		b.StopTimer()
+		runtime.GC()
+		var after runtime.MemStats
+		runtime.ReadMemStats(&after)
+		mapped, err := db.MappedResident()
+		if err != nil {
+			b.Skip(err)
+		}
+		b.ReportMetric(float64(mapped)/night8Total, "resident-B/sample")
+		b.ReportMetric(float64(int64(after.HeapInuse)-int64(before.HeapInuse))/(1<<20), "heap-growth-MiB")
+		b.ReportMetric(float64(db.fileSize())/night8Total, "file-B/sample")
+		db.Close()
+		b.StartTimer()
 	}
 }

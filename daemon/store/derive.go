@@ -101,6 +101,10 @@ func chooseRule(vals, raws []float64) (int, float64, int) {
 
 // encodeValues2 writes the calibrated values (at least one).
 func encodeValues2(w *bitWriter, vals, raws []float64, cals []uint32, s *valueScratch) {
+	if allSame(vals) { // a float column of one value costs less than any rule
+		encodeFloats2(w, vals, &s.floatScratch)
+		return
+	}
 	rule, a, hits := chooseRule(vals, raws)
 	m := min(len(vals), floatSample)
 	if hits*2 >= m {
