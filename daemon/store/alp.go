@@ -93,11 +93,13 @@ func chooseExp(vals []float64) int {
 		xs[j], oks[j] = coarsestExp(vals[j*len(vals)/m])
 	}
 	best, bestCost := 0, -1
+	var tried [2*maxExp + 1]bool
 	for c := range m {
-		if !oks[c] {
+		if !oks[c] || tried[xs[c]+maxExp] {
 			continue
 		}
 		x := xs[c]
+		tried[x+maxExp] = true
 		cost, lo, hi, good := 0, int64(0), int64(0), 0
 		for j := range m {
 			n, ok := int64(0), oks[j] && xs[j] >= x
@@ -126,6 +128,7 @@ type floatScratch struct {
 	ints []int64
 	exc  []int
 	tmp  bitWriter
+	is   intScratch
 }
 
 // encodeFloats2 writes vals (at least one) with the smallest of the
@@ -159,7 +162,7 @@ func encodeFloats2(w *bitWriter, vals []float64, s *floatScratch) {
 	w.write(col2Decimal, 2)
 	w.write(uint64(x+maxExp), 6)
 	writeExceptions(w, vals, s.exc, s.ints)
-	encodeInts(w, s.ints)
+	encodeInts(w, s.ints, &s.is)
 }
 
 // allSame reports whether every value has the first one's bits.
@@ -222,7 +225,7 @@ func writeExceptions(w *bitWriter, vals []float64, exc []int, ints []int64) {
 }
 
 // decodeFloats2 reads len(out) values of a column that is not derived.
-func decodeFloats2(r *bitReader, out []float64, ints []int64) ([]int64, error) {
+func decodeFloats2(r *bitReader, out []float64, ints []int64, is *intScratch) ([]int64, error) {
 	c, err := r.read(2)
 	if err != nil {
 		return ints, err
@@ -237,13 +240,13 @@ func decodeFloats2(r *bitReader, out []float64, ints []int64) ([]int64, error) {
 	case col2XOR:
 		return ints, decodeXOR(r, out, nil)
 	case col2Decimal:
-		return decodeDecimal2(r, out, ints)
+		return decodeDecimal2(r, out, ints, is)
 	}
 	return ints, errCorruptField("float column codec")
 }
 
 // decodeDecimal2 reads a decimal column after its codec id.
-func decodeDecimal2(r *bitReader, out []float64, ints []int64) ([]int64, error) {
+func decodeDecimal2(r *bitReader, out []float64, ints []int64, is *intScratch) ([]int64, error) {
 	xb, err := r.read(6)
 	if err != nil {
 		return ints, err
@@ -284,7 +287,7 @@ func decodeDecimal2(r *bitReader, out []float64, ints []int64) ([]int64, error) 
 		excs = append(excs, exception{at, b})
 	}
 	ints = grow(ints, len(out))
-	if err := decodeInts(r, ints); err != nil {
+	if err := decodeInts(r, ints, is); err != nil {
 		return ints, err
 	}
 	for i, n := range ints {

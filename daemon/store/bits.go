@@ -137,6 +137,12 @@ func (r *bitReader) read(n uint) (uint64, error) {
 	return (w<<off>>off)<<rest | uint64(r.buf[at+8])>>(8-rest), nil
 }
 
+// peek returns the next n bits (n ≤ 56) without consuming them, padded
+// with zeros past the end.
+func (r *bitReader) peek(n uint) uint64 {
+	return r.word(r.pos>>3) << uint(r.pos&7) >> (64 - n)
+}
+
 // bit reads one bit.
 func (r *bitReader) bit() (bool, error) {
 	v, err := r.read(1)

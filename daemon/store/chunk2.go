@@ -36,6 +36,7 @@ type encoder struct {
 	raws, vals []float64
 	qs, cals   []uint32
 	vs         valueScratch
+	rc         residualCoder
 	w          bitWriter
 }
 
@@ -54,7 +55,7 @@ func encodeChunk2(pts []Point) []byte {
 	}
 	w := &e.w
 	w.reset()
-	e.zz = encodeTimes2(w, e.ns, e.zz)
+	e.zz = encodeTimes2(w, e.ns, e.zz, &e.rc)
 	writeRuns(w, e.qs)
 	writeRuns(w, e.cals)
 	encodeFloats2(w, e.raws, &e.vs.floatScratch)
@@ -95,6 +96,8 @@ type decoder struct {
 	ns         []int64
 	raws, vals []float64
 	qs, cals   []uint32
+	zz         []uint64
+	rc         residualCoder
 	vd         valueDecoder
 }
 
@@ -112,7 +115,8 @@ func decodeChunk2(dst []Point, h chunkHead) ([]Point, error) {
 	n := h.n
 	d.ns, d.raws, d.vals = grow(d.ns, n), grow(d.raws, n), grow(d.vals, n)
 	d.qs, d.cals = grow(d.qs, n), grow(d.cals, n)
-	if err := decodeTimes2(r, d.ns, h.first, h.last); err != nil {
+	var err error
+	if d.zz, err = decodeTimes2(r, d.ns, h.first, h.last, d.zz, &d.rc); err != nil {
 		return dst, fmt.Errorf("time column: %w", err)
 	}
 	if err := decodeRuns(r, d.qs); err != nil {
@@ -121,8 +125,7 @@ func decodeChunk2(dst []Point, h chunkHead) ([]Point, error) {
 	if err := decodeRuns(r, d.cals); err != nil {
 		return dst, fmt.Errorf("calibration column: %w", err)
 	}
-	var err error
-	if d.vd.ints, err = decodeFloats2(r, d.raws, d.vd.ints); err != nil {
+	if d.vd.ints, err = decodeFloats2(r, d.raws, d.vd.ints, &d.vd.is); err != nil {
 		return dst, fmt.Errorf("raw column: %w", err)
 	}
 	if err := decodeValues2(r, d.vals, d.raws, d.cals, &d.vd); err != nil {
@@ -151,7 +154,7 @@ func checkTimeCount(r bitReader, h chunkHead) error {
 	if h.n < 2 {
 		return nil
 	}
-	g, period, regular, _, err := timeHeader(&r, h.first, h.last)
+	g, period, regular, err := timeHeader(&r, h.first, h.last)
 	if err != nil {
 		return err
 	}

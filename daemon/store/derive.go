@@ -173,6 +173,7 @@ func truncateBits(w *bitWriter, n int) {
 
 // valueDecoder holds the buffers a value column needs while decoding.
 type valueDecoder struct {
+	is   intScratch
 	ints []int64
 	exc  []int
 	miss []float64
@@ -188,7 +189,7 @@ func decodeValues2(r *bitReader, out, raws []float64, cals []uint32, d *valueDec
 	}
 	if c != col2Derived {
 		*r = save
-		d.ints, err = decodeFloats2(r, out, d.ints)
+		d.ints, err = decodeFloats2(r, out, d.ints, &d.is)
 		return err
 	}
 	rb, err := r.read(2)
@@ -226,7 +227,7 @@ func decodeValues2(r *bitReader, out, raws []float64, cals []uint32, d *valueDec
 	}
 	d.miss = grow(d.miss, int(nexc))
 	if nexc > 0 {
-		if d.ints, err = decodeFloats2(r, d.miss, d.ints); err != nil {
+		if d.ints, err = decodeFloats2(r, d.miss, d.ints, &d.is); err != nil {
 			return err
 		}
 	}

@@ -16,15 +16,13 @@ import (
 // at once. P and the anchor are kept in 1/256 units, P being the mean of
 // the chunk's ordinary steps, so a period that is not a whole number of
 // units does not bias the residuals. Residuals are
-// zigzagged and written as exponential-Golomb codes of one order per chunk,
-// chosen from a histogram of their lengths among a few orders near their
-// mean. A chunk whose times all fall on their predictions writes one flag
-// bit.
+// zigzagged and written as a residual column (entropy.go). A chunk whose
+// times all fall on their predictions writes one flag bit.
 //
 //	expGolomb0  unit − 1 (ns)
 //	expGolomb0  P·256 (units)
 //	1 bit       1: every residual is zero (no more bits)
-//	6 bits      order k, then n−1 residual codes
+//	residuals   n−1 of them (entropy.go)
 
 // timeSample bounds the steps sorted to find the median step.
 const timeSample = 31
@@ -34,58 +32,78 @@ const timeFrac = 8
 
 // encodeTimes2 writes the time column for sorted ns (the first time and
 // the span are in the header). zz is scratch space.
-func encodeTimes2(w *bitWriter, ns []int64, zz []uint64) []uint64 {
+func encodeTimes2(w *bitWriter, ns []int64, zz []uint64, rc *residualCoder) []uint64 {
 	n := len(ns)
 	if n < 2 {
 		return zz
 	}
+	// zz holds the steps in ns first, then in units, then the residuals.
+	zz = zz[:0]
 	var g uint64
-	for i := 1; i < n && g != 1; i++ {
-		g = gcd(g, uint64(ns[i]-ns[i-1]))
+	for i := 1; i < n; i++ {
+		d := uint64(ns[i] - ns[i-1])
+		zz = append(zz, d)
+		if g != 1 && (g == 0 || mod(d, g) != 0) {
+			g = gcd(g, d)
+		}
 	}
 	if g == 0 {
 		g = 1
 	}
-	period := periodOf(ns, g)
+	if g > 1 {
+		for i, d := range zz {
+			zz[i] = div(d, g)
+		}
+	}
+	period := periodOf(zz)
 	w.expGolomb(g-1, 0)
 	w.expGolomb(period, 0)
 
-	zz = zz[:0]
 	var u, sum uint64
 	var a anchor
 	allZero := true
-	for i := 1; i < n; i++ {
-		u += uint64(ns[i]-ns[i-1]) / g
+	for i, d := range zz {
+		u += d
 		e := int64(u - a.predict(period))
 		a.follow(period, e, u)
 		z := zigzag(e)
-		zz = append(zz, z)
+		zz[i] = z
 		sum += min(z, 1<<40)
 		allZero = allZero && z == 0
 	}
 	w.bit(allZero)
-	if allZero {
-		return zz
-	}
-	k := pickOrder(zz, sum)
-	w.write(uint64(k), 6)
-	for _, z := range zz {
-		w.expGolomb(z, k)
+	if !allZero {
+		encodeResiduals(w, zz, sum, rc)
 	}
 	return zz
 }
 
-// periodOf returns the period of sorted times in units of g, times 256:
+// div and mod are d/g and d%g, in 32 bits when both fit (much faster on
+// the small computers the daemon runs on).
+func div(d, g uint64) uint64 {
+	if d|g < 1<<32 {
+		return uint64(uint32(d) / uint32(g))
+	}
+	return d / g
+}
+
+func mod(d, g uint64) uint64 {
+	if d|g < 1<<32 {
+		return uint64(uint32(d) % uint32(g))
+	}
+	return d % g
+}
+
+// periodOf returns the period of a chunk's steps (in units), times 256:
 // the mean of the steps within half a median step of the median (so
 // missed polls and restarts do not count), which for a steady schedule is
 // very nearly the span over the number of steps.
-func periodOf(ns []int64, g uint64) uint64 {
+func periodOf(steps []uint64) uint64 {
 	var sample [timeSample]uint64
-	n := len(ns)
-	m := min(n-1, timeSample)
+	n := len(steps)
+	m := min(n, timeSample)
 	for j := range m {
-		i := 1 + j*(n-1)/m
-		sample[j] = uint64(ns[i]-ns[i-1]) / g
+		sample[j] = steps[j*n/m]
 	}
 	slices.Sort(sample[:m])
 	med := sample[(m-1)/2]
@@ -93,8 +111,8 @@ func periodOf(ns []int64, g uint64) uint64 {
 		return 0
 	}
 	var sum, count uint64
-	for i := 1; i < n; i++ {
-		if d := uint64(ns[i]-ns[i-1]) / g; d >= med-med/2 && d <= med+med/2 {
+	for _, d := range steps {
+		if d >= med-med/2 && d <= med+med/2 {
 			sum, count = sum+d, count+1
 		}
 	}
@@ -134,6 +152,13 @@ func gcd(a, b uint64) uint64 {
 // pickOrder chooses the exponential-Golomb order that codes xs in the
 // fewest bits among a few orders near the one their mean suggests.
 func pickOrder(xs []uint64, sum uint64) uint {
+	k, _ := pickOrderCost(xs, sum)
+	return k
+}
+
+// pickOrderCost is pickOrder that also returns the estimated size in bits
+// (each value costed as the smallest of its bit length).
+func pickOrderCost(xs []uint64, sum uint64) (uint, int) {
 	var hist [65]int
 	for _, x := range xs {
 		hist[bits.Len64(x)]++
@@ -156,48 +181,48 @@ func pickOrder(xs []uint64, sum uint64) uint {
 			bestK, bestCost = uint(k), cost
 		}
 	}
-	return bestK
+	return bestK, bestCost + 6
 }
 
 // decodeTimes2 fills ns (len = the chunk's point count) from the column;
-// first and last come from the header.
-func decodeTimes2(r *bitReader, ns []int64, first, last int64) error {
+// first and last come from the header. zz and rc are scratch space.
+func decodeTimes2(r *bitReader, ns []int64, first, last int64, zz []uint64, rc *residualCoder) ([]uint64, error) {
 	ns[0] = first
 	n := len(ns)
 	if n < 2 {
-		return nil
+		return zz, nil
 	}
-	g, period, regular, k, err := timeHeader(r, first, last)
+	g, period, regular, err := timeHeader(r, first, last)
 	if err != nil {
-		return err
+		return zz, err
+	}
+	zz = grow(zz, n-1)
+	if regular {
+		clear(zz)
+	} else if err := decodeResiduals(r, zz, rc); err != nil {
+		return zz, err
 	}
 	limit := uint64(last-first) / g
 	var u uint64
 	var a anchor
-	for i := 1; i < n; i++ {
-		var z uint64
-		if !regular {
-			if z, err = r.expGolomb(k); err != nil {
-				return err
-			}
-		}
+	for i, z := range zz {
 		e := unzigzag(z)
 		next := a.predict(period) + uint64(e)
 		if next < u || next > limit {
-			return errCorruptField("time column (times go backwards or past the last)")
+			return zz, errCorruptField("time column (times go backwards or past the last)")
 		}
 		u = next
 		a.follow(period, e, u)
-		ns[i] = first + int64(u*g)
+		ns[i+1] = first + int64(u*g)
 	}
 	if ns[n-1] != last {
-		return errCorruptField("time column (last time disagrees with the header)")
+		return zz, errCorruptField("time column (last time disagrees with the header)")
 	}
-	return nil
+	return zz, nil
 }
 
-// timeHeader reads the time column's unit, period, regular flag and order.
-func timeHeader(r *bitReader, first, last int64) (g, period uint64, regular bool, k uint, err error) {
+// timeHeader reads the time column's unit, period and regular flag.
+func timeHeader(r *bitReader, first, last int64) (g, period uint64, regular bool, err error) {
 	gm1, err := r.expGolomb(0)
 	if err != nil {
 		return
@@ -210,12 +235,6 @@ func timeHeader(r *bitReader, first, last int64) (g, period uint64, regular bool
 		err = errCorruptField("time unit")
 		return
 	}
-	if regular, err = r.bit(); err != nil || regular {
-		return
-	}
-	var kb uint64
-	if kb, err = r.read(6); err == nil && kb > 62 {
-		err = errCorruptField("time code order")
-	}
-	return g, period, regular, uint(kb), err
+	regular, err = r.bit()
+	return
 }
