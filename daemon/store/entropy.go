@@ -26,11 +26,12 @@ const (
 
 // residualCoder holds a chosen code and scratch space.
 type residualCoder struct {
-	count [huffSymbols]int
-	lens  [huffSymbols]uint8
-	codes [huffSymbols]uint16
-	nsym  int
-	table []uint16 // decoding: symbol<<4 | length, indexed by the next huffMaxLen bits
+	count  [huffSymbols]int
+	lens   [huffSymbols]uint8
+	codes  [huffSymbols]uint16
+	nsym   int
+	table  []uint16 // decoding: symbol<<4 | length, indexed by the next maxLen bits
+	maxLen uint     // the longest code length, when decoding
 }
 
 // encodeResiduals writes xs; sum is their sum (saturated), for the Golomb order.
@@ -180,7 +181,7 @@ func decodeResiduals(r *bitReader, out []uint64, c *residualCoder) error {
 		return err
 	}
 	for i := range out {
-		e := c.table[r.peek(huffMaxLen)]
+		e := c.table[r.peek(c.maxLen)]
 		l := int(e & 15)
 		if l == 0 || r.remaining() < l {
 			return errCorruptField("residual code")
@@ -225,16 +226,19 @@ func (c *residualCoder) readTable(r *bitReader) error {
 		return errCorruptField("code lengths")
 	}
 	c.assign()
-	if c.table == nil {
-		c.table = make([]uint16, 1<<huffMaxLen)
+	c.maxLen = 1
+	for _, l := range c.lens[:c.nsym] {
+		c.maxLen = max(c.maxLen, uint(l))
 	}
+	c.table = grow(c.table, 1<<c.maxLen)
 	clear(c.table)
 	for s, l := range c.lens[:c.nsym] {
 		if l == 0 {
 			continue
 		}
-		lo := int(c.codes[s]) << (huffMaxLen - l)
-		for i := lo; i < lo+1<<(huffMaxLen-l); i++ {
+		shift := c.maxLen - uint(l)
+		lo := int(c.codes[s]) << shift
+		for i := lo; i < lo+1<<shift; i++ {
 			c.table[i] = uint16(s)<<4 | uint16(l)
 		}
 	}
