@@ -21,7 +21,7 @@ var night8Start = time.Date(2031, 9, 2, 21, 0, 0, 0, time.UTC)
 const night8Samples = 8 * 3600 * 10
 
 // night8Names lists the channels, grouped by exchange.
-var night8Names = []string{"chamber", "foreline", "loadlock", "wall-tc", "shroud-tc", "source-tc", "pump-state", "valve-pos"}
+var night8Names = []string{"chamber", "backing", "loadlock", "wall-tc", "shroud-tc", "source-tc", "pump-state", "valve-pos"}
 
 // night8Times returns one exchange's poll times: every 100 ms plus a fixed
 // latency plus jitter (σ = 1 ms), rounded to the millisecond.
