@@ -4,6 +4,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"testing"
+	"time"
 
 	bolt "go.etcd.io/bbolt"
 )
@@ -278,6 +279,48 @@ func BenchmarkResidentNight(b *testing.B) {
 		b.ReportMetric(float64(mapped)/night8Total, "resident-B/sample")
 		b.ReportMetric(float64(int64(after.HeapInuse)-int64(before.HeapInuse))/(1<<20), "heap-growth-MiB")
 		b.ReportMetric(float64(db.fileSize())/night8Total, "file-B/sample")
+		db.Close()
+		b.StartTimer()
+	}
+}
+
+// BenchmarkHeapAsDataGrows stores four nights in bulk, one a day, and
+// reports the heap in use (after a collection, the nights' test data
+// excluded) after the first and after the fourth: the store keeps no
+// per-sample state, so the heap must not grow with the file.
+func BenchmarkHeapAsDataGrows(b *testing.B) {
+	data := night8()
+	heap := func() float64 {
+		runtime.GC()
+		var m runtime.MemStats
+		runtime.ReadMemStats(&m)
+		return float64(m.HeapInuse) / (1 << 20)
+	}
+	for b.Loop() {
+		b.StopTimer()
+		base := heap()
+		db := openTemp(b, Options{})
+		var first float64
+		for night := range 4 {
+			shift := time.Duration(night) * 24 * time.Hour
+			for i := 0; i < night8Samples; i += night8Flush {
+				for _, name := range night8Names {
+					for _, p := range data[name][i:min(i+night8Flush, night8Samples)] {
+						p.At = p.At.Add(shift)
+						db.Append(name, p)
+					}
+				}
+				if err := db.Flush(); err != nil {
+					b.Fatal(err)
+				}
+			}
+			if night == 0 {
+				first = heap() - base
+			}
+		}
+		b.ReportMetric(first, "heap-after-1-night-MiB")
+		b.ReportMetric(heap()-base, "heap-after-4-nights-MiB")
+		b.ReportMetric(float64(db.fileSize())/(1<<20), "file-MiB")
 		db.Close()
 		b.StartTimer()
 	}
