@@ -52,10 +52,10 @@ func checkPoint(series string, p Point) error {
 // and keeps the reason in LastRejected. When the buffer is full (the disk
 // refuses writes for a long time) the oldest point is dropped and counted.
 func (db *DB) Append(series string, p Point) {
-	err := checkPoint(series, p)
 	if db.res > 1 {
 		p.At = p.At.Truncate(db.res) // whole seconds are multiples of res, so this counts from 1970 too
 	}
+	err := checkPoint(series, p) // after the cut, which may take a time out of the range
 	db.mu.Lock()
 	defer db.mu.Unlock()
 	if err == nil && db.closed {

@@ -42,3 +42,20 @@ func TestOpenRefusesABadResolution(t *testing.T) {
 		}
 	}
 }
+
+func TestACutBelowTheEarliestTimeIsRefused(t *testing.T) {
+	// The earliest time the store keeps is -2^63 ns; cut to 1 ms it would
+	// fall before that, so Append refuses it rather than wrap around.
+	db := openTemp(t, Options{})
+	db.Append("g", Point{At: minTime, Raw: 1})
+	if st := db.Stats(); st.Rejected != 1 || !strings.Contains(st.LastRejected.Error(), "outside 1678-2262") {
+		t.Fatalf("Rejected %d, %v; want the point refused for its time", st.Rejected, st.LastRejected)
+	}
+	db.Append("g", Point{At: minTime.Add(time.Millisecond), Raw: 2})
+	if err := db.Flush(); err != nil {
+		t.Fatal(err)
+	}
+	if got := all(t, db, "g"); len(got) != 1 || got[0].Raw != 2 || got[0].At.Before(minTime) {
+		t.Fatalf("got %v; want the point a millisecond later, cut to a time in range", got)
+	}
+}
