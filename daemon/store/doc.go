@@ -68,6 +68,14 @@
 // back: up to the file's size, about 1 byte a sample. MappedResident
 // reports that part apart from the heap.
 //
+// # Roll-ups
+//
+// ComputeRollups summarises points per minute or per hour (count, valid
+// count, min, max, compensated sum, first and last valid point), and
+// MergeRollups joins consecutive ones (minutes into hours). They are
+// computed on request; storing them beside the chunks and answering
+// reduced queries from them is not wired yet.
+//
 // # Order
 //
 // Points may arrive out of order and with duplicate times: they are stored
