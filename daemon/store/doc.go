@@ -54,10 +54,11 @@
 // (xorchunk_test.go) in the same run: 0.56 bytes per sample in chunks
 // (XOR: 8.45), 0.78 in the file after the night and 0.67 after Compact;
 // about 2.4 bits a sample are time, 0–4.3 the raw value, under 0.1 the
-// calibrated value and the runs. Encoding and decoding run at about 1.6×
-// XOR's speed, bulk ingest through Append and Flush at about 0.5 µs per
-// sample, and a flush at the daemon's cadence takes what XOR chunks in
-// bbolt take (the fsync). DEVELOPERS.md has the commands.
+// calibrated value and the runs. Encoding runs at 1.3–2.7× XOR's speed
+// and decoding at 1.4–1.8×, bulk ingest through Append and Flush at
+// 0.4–0.5 µs per sample on one core, and a flush at the daemon's cadence
+// takes what XOR chunks in bbolt take (the fsync). DEVELOPERS.md has the
+// commands.
 //
 // # Memory
 //
