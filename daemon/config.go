@@ -42,6 +42,7 @@ type StoreConfig struct {
 	Dir        string   `yaml:"dir"`         // data directory; holds holdfast.db
 	FlushEvery Duration `yaml:"flush_every"` // batch interval; default 1s
 	Retention  Duration `yaml:"retention"`   // delete samples older than this (whole chunks); 0 keeps everything
+	Resolution Duration `yaml:"resolution"`  // sample times are kept to this; default 1ms; must divide 1s
 }
 
 // LinkConfig is one physical connection. Exactly one kind is set.

@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"holdfast/calib"
+	"holdfast/daemon/store"
 	"holdfast/drivers"
 )
 
@@ -78,6 +79,8 @@ func check(cfg *Config, prior []Problem) []Problem {
 	if cfg.Store.FlushEvery == 0 {
 		cfg.Store.FlushEvery = Duration(defaultFlushEvery)
 	}
+	v.expect(cfg.Store.Resolution == 0 || store.CheckResolution(cfg.Store.Resolution.D()) == nil, "store.resolution",
+		"want a time step that divides 1s evenly, from 1ns to 1s (e.g. resolution: 1ms), got %s", cfg.Store.Resolution.D())
 	v.expect(len(cfg.Links) > 0, "links", "no links; define at least one (serial, tcp, modbus_rtu, modbus_tcp or simulator)")
 	for _, name := range sortedKeys(cfg.Links) {
 		v.link(name, cfg.Links[name])

@@ -104,7 +104,7 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 	if err := os.MkdirAll(cfg.Store.Dir, 0o750); err != nil {
 		return nil, fmt.Errorf("data directory: %w", err)
 	}
-	if d.store, err = store.Open(StorePath(cfg.Store.Dir), store.Options{}); err != nil {
+	if d.store, err = store.Open(StorePath(cfg.Store.Dir), store.Options{Resolution: cfg.Store.Resolution.D()}); err != nil {
 		return nil, err
 	}
 	if err := d.loadCalibrations(); err != nil {

@@ -64,12 +64,14 @@ func BenchmarkNight(b *testing.B) {
 	}
 }
 
-// BenchmarkCodecs reports, for each gauge of the night, the size in bits per
-// sample of each column under each candidate codec, so the choice the
-// encoder makes per chunk can be checked against the alternatives.
+// BenchmarkCodecs reports, for each gauge of both nights, the size in bits
+// per sample of each column as stored, with XOR beside for the floats.
 func BenchmarkCodecs(b *testing.B) {
 	data := night()
-	for _, name := range []string{"foreline", "chamber-ion", "heater-tc"} {
+	for name, pts := range night8() {
+		data[name] = pts
+	}
+	for _, name := range append([]string{"foreline", "chamber-ion", "heater-tc"}, night8Names...) {
 		b.Run(name, func(b *testing.B) {
 			pts := data[name]
 			var sizes map[string]int
@@ -86,27 +88,29 @@ func BenchmarkCodecs(b *testing.B) {
 	}
 }
 
-// measureColumns adds the bit size of each codec on each column of one chunk.
+// measureColumns adds the bit size of each column of one chunk as the
+// store writes it, with the general-purpose XOR coding of the floats beside.
 func measureColumns(sizes map[string]int, pts []Point) {
 	n := len(pts)
-	ns, raws, vals, cals := make([]int64, n), make([]float64, n), make([]float64, n), make([]uint32, n)
-	for i, p := range pts {
-		ns[i], raws[i], vals[i], cals[i] = p.At.UnixNano(), p.Raw, p.Value, p.Calibration
+	e := new(encoder)
+	e.ns, e.raws, e.vals = make([]int64, n), make([]float64, n), make([]float64, n)
+	e.qs, e.cals = make([]uint32, n), make([]uint32, n)
+	for i, p := range truncated(pts, DefaultResolution) {
+		e.ns[i], e.raws[i], e.vals[i] = p.At.UnixNano(), p.Raw, p.Value
+		e.qs[i], e.cals[i] = uint32(p.Quality), p.Calibration
 	}
 	size := func(key string, enc func(w *bitWriter)) {
 		var w bitWriter
 		enc(&w)
 		sizes[key] += w.bits()
 	}
-	size("time", func(w *bitWriter) { encodeTimes(w, ns) })
-	size("raw-xor", func(w *bitWriter) { encodeXOR(w, raws, nil) })
-	size("raw-decimal", func(w *bitWriter) { encodeDecimal(w, raws) })
-	size("raw-chosen", func(w *bitWriter) { encodeFloats(w, raws, nil) })
-	size("value-xor", func(w *bitWriter) { encodeXOR(w, vals, nil) })
-	size("value-decimal", func(w *bitWriter) { encodeDecimal(w, vals) })
-	size("value-ratio", func(w *bitWriter) { encodeXOR(w, vals, raws) })
-	size("value-chosen", func(w *bitWriter) { encodeValues(w, vals, raws, cals) })
-	sizes["chunk"] += 8 * len(encodeChunk(pts)) // the whole chunk, header and checksum included
+	size("time", func(w *bitWriter) { encodeTimes2(w, e.ns, nil, &e.rc) })
+	size("quality+calibration", func(w *bitWriter) { writeRuns(w, e.qs); writeRuns(w, e.cals) })
+	size("raw", func(w *bitWriter) { encodeFloats2(w, e.raws, &e.vs.floatScratch) })
+	size("raw-xor", func(w *bitWriter) { encodeXOR(w, e.raws, nil) })
+	size("value", func(w *bitWriter) { encodeValues2(w, e.vals, e.raws, e.cals, &e.vs) })
+	size("value-xor", func(w *bitWriter) { encodeXOR(w, e.vals, nil) })
+	sizes["chunk"] += 8 * len(encodeChunk(truncated(pts, DefaultResolution))) // header and checksum included
 }
 
 // BenchmarkAppend measures one Append (memory only).

@@ -1,6 +1,7 @@
 package store
 
 import (
+	"encoding/binary"
 	"errors"
 	"math/bits"
 )
@@ -12,24 +13,32 @@ var errShort = errors.New("data ends early")
 type bitWriter struct {
 	buf  []byte
 	acc  uint64 // pending bits, right-aligned
-	nacc uint   // number of pending bits, < 8 after each call
+	nacc uint   // number of pending bits, < 64 after each call
 }
 
 // write appends the n low bits of v (n ≤ 64).
 func (w *bitWriter) write(v uint64, n uint) {
-	if n > 56 { // keep acc from overflowing: split wide fields
-		w.write(v>>32, n-32)
-		v, n = v&(1<<32-1), 32
+	if n == 0 {
+		return
 	}
 	if n < 64 {
 		v &= 1<<n - 1
 	}
-	w.acc = w.acc<<n | v
-	w.nacc += n
-	for w.nacc >= 8 {
-		w.nacc -= 8
-		w.buf = append(w.buf, byte(w.acc>>w.nacc))
+	free := 64 - w.nacc
+	if n < free {
+		w.acc = w.acc<<n | v
+		w.nacc += n
+		return
 	}
+	rest := n - free // < 64, as free ≥ 1
+	if free == 64 {
+		w.acc = v
+	} else {
+		w.acc = w.acc<<free | v>>rest
+	}
+	w.buf = binary.BigEndian.AppendUint64(w.buf, w.acc)
+	w.acc = v & (1<<rest - 1)
+	w.nacc = rest
 }
 
 // bit appends one bit.
@@ -50,12 +59,34 @@ func (w *bitWriter) bytes() []byte {
 	if w.nacc == 0 {
 		return w.buf
 	}
-	return append(w.buf[:len(w.buf):len(w.buf)], byte(w.acc<<(8-w.nacc)))
+	return w.appendTail(w.buf[:len(w.buf):len(w.buf)])
 }
+
+// appendTo appends the stream, its last byte padded with zeros, to dst.
+func (w *bitWriter) appendTo(dst []byte) []byte {
+	return w.appendTail(append(dst, w.buf...))
+}
+
+// appendTail appends the pending bits, padded to whole bytes, to dst.
+func (w *bitWriter) appendTail(dst []byte) []byte {
+	tail := w.acc << (64 - w.nacc)
+	for i := uint(0); i < w.nacc; i += 8 {
+		dst = append(dst, byte(tail>>(56-i)))
+	}
+	return dst
+}
+
+// reset empties the writer, keeping its buffer.
+func (w *bitWriter) reset() { w.buf, w.acc, w.nacc = w.buf[:0], 0, 0 }
 
 // expGolomb appends x as an order-k exponential-Golomb code: k+1 bits for
 // x < 2^k, growing by two bits per doubling beyond that, for any uint64.
 func (w *bitWriter) expGolomb(x uint64, k uint) {
+	if q := x >> k; q < 1<<20 && k <= 23 { // the whole code fits in one write
+		z := uint(bits.Len64(q+1)) - 1
+		w.write((q+1)<<k|x&(1<<k-1), 2*z+1+k)
+		return
+	}
 	q := x >> k
 	z := uint(bits.Len64(q+1)) - 1 // leading zeros; q+1 wraps to 0 only for q = 2^64-1
 	if q == ^uint64(0) {
@@ -73,21 +104,43 @@ type bitReader struct {
 	pos int // bit position
 }
 
+// word returns the 64 bits from byte i on, zero-padded past the end.
+func (r *bitReader) word(i int) uint64 {
+	if i+8 <= len(r.buf) {
+		return binary.BigEndian.Uint64(r.buf[i:])
+	}
+	var w uint64
+	for j := range 8 {
+		w <<= 8
+		if i+j < len(r.buf) {
+			w |= uint64(r.buf[i+j])
+		}
+	}
+	return w
+}
+
 // read returns the next n bits (n ≤ 64).
 func (r *bitReader) read(n uint) (uint64, error) {
+	if n == 0 {
+		return 0, nil
+	}
 	if r.pos+int(n) > len(r.buf)*8 {
 		return 0, errShort
 	}
-	var v uint64
-	for n > 0 {
-		byteAt, off := r.pos>>3, uint(r.pos&7)
-		take := min(8-off, n)
-		b := uint64(r.buf[byteAt]>>(8-off-take)) & (1<<take - 1)
-		v = v<<take | b
-		n -= take
-		r.pos += int(take)
+	at, off := r.pos>>3, uint(r.pos&7)
+	w := r.word(at)
+	r.pos += int(n)
+	if off+n <= 64 {
+		return w << off >> (64 - n), nil
 	}
-	return v, nil
+	rest := n - (64 - off) // 1..7 bits from the ninth byte
+	return (w<<off>>off)<<rest | uint64(r.buf[at+8])>>(8-rest), nil
+}
+
+// peek returns the next n bits (n ≤ 56) without consuming them, padded
+// with zeros past the end.
+func (r *bitReader) peek(n uint) uint64 {
+	return r.word(r.pos>>3) << uint(r.pos&7) >> (64 - n)
 }
 
 // bit reads one bit.
@@ -98,6 +151,14 @@ func (r *bitReader) bit() (bool, error) {
 
 // expGolomb reads an order-k exponential-Golomb code.
 func (r *bitReader) expGolomb(k uint) (uint64, error) {
+	if k <= 16 && r.pos+64 <= len(r.buf)*8 { // fast path: a short code within the next 57 bits
+		w := r.word(r.pos>>3) << uint(r.pos&7)
+		if z := uint(bits.LeadingZeros64(w)); z <= 20 {
+			total := 2*z + 1 + k
+			r.pos += int(total)
+			return w>>(64-total) - 1<<k, nil
+		}
+	}
 	var z uint
 	for {
 		b, err := r.bit()

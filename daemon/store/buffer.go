@@ -41,7 +41,10 @@ func checkPoint(series string, p Point) error {
 	return nil
 }
 
-// Append buffers one point for the next Flush. It only takes a lock held
+// Append buffers one point for the next Flush. Its time is cut (towards
+// the past) to the store's resolution, Options.Resolution, 1 ms by
+// default: the part of a poll time below it is jitter, not information,
+// and storing it would cost more than the value. It only takes a lock held
 // for memory operations, so it never waits for the disk. Points may come in
 // any order; they are stored sorted by time, points with equal times in the
 // order they were appended. A point with an empty series name, a time outside
@@ -49,7 +52,10 @@ func checkPoint(series string, p Point) error {
 // and keeps the reason in LastRejected. When the buffer is full (the disk
 // refuses writes for a long time) the oldest point is dropped and counted.
 func (db *DB) Append(series string, p Point) {
-	err := checkPoint(series, p)
+	if db.res > 1 {
+		p.At = p.At.Truncate(db.res) // whole seconds are multiples of res, so this counts from 1970 too
+	}
+	err := checkPoint(series, p) // after the cut, which may take a time out of the range
 	db.mu.Lock()
 	defer db.mu.Unlock()
 	if err == nil && db.closed {

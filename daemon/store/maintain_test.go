@@ -62,7 +62,7 @@ func TestDamagedChunkIsReportedAndOthersStayReadable(t *testing.T) {
 		{"bit flip", func(b []byte) []byte { b[len(b)/2] ^= 0x10; return b }, "checksum mismatch"},
 		{"torn", func(b []byte) []byte { return b[:len(b)/3] }, "checksum mismatch"},
 		{"empty", func(b []byte) []byte { return []byte{} }, "too short"},
-		{"newer format", func(b []byte) []byte { b[0] = 2; return b }, "version 2"},
+		{"newer format", func(b []byte) []byte { b[0] = 3; return b }, "version 3"},
 	}
 	mid := pts[1024].At
 	for _, c := range cases {
@@ -114,7 +114,7 @@ func TestFlushMovesADamagedOpenChunkAside(t *testing.T) {
 }
 
 func TestRewriteAppliesANewCalibration(t *testing.T) {
-	pts := ion(4 * 3600)
+	pts := truncated(ion(4*3600), DefaultResolution)
 	db := storeFlushed(t, pts)
 	from, to := nightStart.Add(time.Hour), nightStart.Add(3*time.Hour)
 	recal := func(p Point) Point {

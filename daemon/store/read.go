@@ -67,8 +67,9 @@ func (db *DB) Range(series string, from, to time.Time, fn func(Point) bool) erro
 	buf = slices.DeleteFunc(buf, func(p Point) bool { n := p.At.UnixNano(); return n < lo || n >= hi })
 	slices.SortStableFunc(buf, func(a, b Point) int { return a.At.Compare(b.At) })
 	var errs []error
+	var pts []Point // reused from chunk to chunk
 	for _, rc := range chunks {
-		pts, err := decodeChunk(rc.data)
+		pts, err = appendChunk(pts[:0], rc.data)
 		if err != nil {
 			errs = append(errs, &ChunkError{Series: series, Start: time.Unix(0, rc.start).UTC(), Err: err})
 			continue

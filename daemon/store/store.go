@@ -22,8 +22,10 @@ var (
 )
 
 // schemaVersion is the layout this package writes: meta/schema, one nested
-// bucket per series under series/, chunks as described in chunk.go.
-const schemaVersion = 1
+// bucket per series under series/, chunks as described in chunk.go. Schema
+// 1 had version-1 chunks only; schema 2 files have version-2 chunks, and
+// Open rewrites a schema-1 file to schema 2 (migrate.go).
+const schemaVersion = 2
 
 // Limits of one chunk; see doc.go for how they were chosen.
 const (
@@ -35,9 +37,14 @@ const (
 // the disk refuses writes: 10 gauges at 1 Hz for over 7 hours.
 const DefaultMaxBuffered = 1 << 18
 
+// DefaultResolution is the default time resolution: a serial exchange
+// lasts milliseconds, so a poll time finer than that is noise.
+const DefaultResolution = time.Millisecond
+
 // Options control Open.
 type Options struct {
 	Timeout     time.Duration // how long to wait for the file lock; 0 means 1 s
+	Resolution  time.Duration // times are cut to a multiple of this on Append; 0 means DefaultResolution; must divide 1 s
 	ReadOnly    bool          // open for queries only; the file must already be a store
 	MaxBuffered int           // points kept in memory at most; 0 means DefaultMaxBuffered
 	MaxBytes    int           // refuse to grow the file beyond this many bytes; 0 means no limit
@@ -52,6 +59,7 @@ type DB struct {
 	log      *slog.Logger
 	maxBuf   int
 	readOnly bool
+	res      time.Duration // see Options.Resolution
 
 	flushMu sync.Mutex      // held while the disk copy changes; see Range
 	tails   map[string]tail // the open end of each series; guarded by flushMu
@@ -85,6 +93,12 @@ func (e *lockedError) Unwrap() error { return e.err }
 // another process fails after opt.Timeout with an error that wraps bbolt's
 // ErrTimeout.
 func Open(path string, opt Options) (*DB, error) {
+	if opt.Resolution == 0 {
+		opt.Resolution = DefaultResolution
+	}
+	if err := CheckResolution(opt.Resolution); err != nil {
+		return nil, fmt.Errorf("open store %s: %w", path, err)
+	}
 	bo := &bolt.Options{
 		Timeout:         opt.Timeout,
 		ReadOnly:        opt.ReadOnly,
@@ -107,14 +121,18 @@ func Open(path string, opt Options) (*DB, error) {
 		return nil, fmt.Errorf("open store %s: %w", path, err)
 	}
 	db := &DB{path: path, bolt: b, log: opt.Logger, maxBuf: opt.MaxBuffered, readOnly: opt.ReadOnly,
-		tails: map[string]tail{}}
+		res: opt.Resolution, tails: map[string]tail{}}
 	if db.log == nil {
 		db.log = slog.New(slog.DiscardHandler)
 	}
 	if db.maxBuf <= 0 {
 		db.maxBuf = DefaultMaxBuffered
 	}
-	if err := db.checkSchema(); err != nil {
+	schema, err := db.checkSchema()
+	if err == nil && schema < schemaVersion && !db.readOnly {
+		err = db.migrate()
+	}
+	if err != nil {
 		b.Close()
 		return nil, fmt.Errorf("open store %s: %w", path, err)
 	}
@@ -122,9 +140,20 @@ func Open(path string, opt Options) (*DB, error) {
 	return db, nil
 }
 
-// checkSchema creates the buckets in a new file and refuses files this
-// version cannot read.
-func (db *DB) checkSchema() error {
+// CheckResolution says why d cannot be a store's time resolution, or
+// returns nil: it must be positive, at most 1 s, and divide 1 s evenly
+// (1ms, 10ms, 100µs, ...), so stored times fall on whole seconds.
+func CheckResolution(d time.Duration) error {
+	if d <= 0 || d > time.Second || time.Second%d != 0 {
+		return fmt.Errorf("time resolution %s must be positive, at most 1s and divide 1s evenly (such as 1ms, 10ms or 1µs)", d)
+	}
+	return nil
+}
+
+// checkSchema creates the buckets in a new file, refuses files this
+// version cannot read, and returns the file's schema version.
+func (db *DB) checkSchema() (uint64, error) {
+	var got uint64
 	check := func(tx *bolt.Tx) error {
 		meta := tx.Bucket(bucketMeta)
 		if meta == nil {
@@ -136,10 +165,12 @@ func (db *DB) checkSchema() error {
 			case db.readOnly:
 				return errors.New("the file is not a holdfast store yet (empty); open it once without read-only to create it")
 			}
+			got = schemaVersion
 			return initBuckets(tx)
 		}
 		v := meta.Get(keySchema)
-		got, n := binary.Uvarint(v)
+		var n int
+		got, n = binary.Uvarint(v)
 		if n <= 0 {
 			return errors.New("the meta bucket has no readable schema version; the file is damaged or not a holdfast store")
 		}
@@ -152,9 +183,9 @@ func (db *DB) checkSchema() error {
 		return nil
 	}
 	if db.readOnly {
-		return db.bolt.View(check)
+		return got, db.bolt.View(check)
 	}
-	return db.bolt.Update(check)
+	return got, db.bolt.Update(check)
 }
 
 // initBuckets lays out a new file.
