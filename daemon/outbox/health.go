@@ -22,7 +22,6 @@ type Health struct {
 	Oldest      time.Time // when the oldest queued entry was queued; zero for an empty queue
 }
 
-
 // Health reports every registered notifier, in the order they were added.
 func (o *Outbox) Health() ([]Health, error) {
 	o.mu.Lock()
