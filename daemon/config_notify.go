@@ -51,6 +51,7 @@ type WebhookConfig struct {
 type AlertmanagerConfig struct {
 	URL         string   `yaml:"url"`          // base URL, e.g. http://127.0.0.1:9093
 	ResendEvery Duration `yaml:"resend_every"` // re-post active alarms this often; default 1 min
+	DaemonURL   string   `yaml:"daemon_url"`   // how Alertmanager's users reach this daemon, for generatorURL; default http://<http.listen>
 }
 
 // MailConfig sends mail through an SMTP relay with STARTTLS.
@@ -125,6 +126,9 @@ func (v *checker) notifier(path string, n *NotifyConfig, i int) {
 		n.Webhook.secret = v.secret(path+".webhook.secret_file", n.Webhook.SecretFile, true)
 	case n.Alertmanager != nil:
 		v.httpURL(path+".alertmanager.url", n.Alertmanager.URL)
+		if n.Alertmanager.DaemonURL != "" {
+			v.httpURL(path+".alertmanager.daemon_url", n.Alertmanager.DaemonURL)
+		}
 		if n.Alertmanager.ResendEvery == 0 {
 			n.Alertmanager.ResendEvery = Duration(defaultAMResend)
 		}
