@@ -99,7 +99,11 @@ notify:
 		t.Fatal(err)
 	}
 	n.sinks[0].am.Client = &http.Client{Transport: am}
-	d := &Daemon{cfg: cfg, clock: clk, log: slog.New(slog.DiscardHandler), alarms: alerts.NewEngine(nil), ntf: n}
+	d := &Daemon{cfg: cfg, clock: clk, log: slog.New(slog.DiscardHandler), ntf: n, emit: func(Event) {}}
+	d.alarms = alerts.NewEngine(d.limits())
+	if _, err := d.alarms.Attach(nil); err != nil {
+		t.Fatal(err)
+	}
 	ctx, cancel := context.WithCancel(t.Context())
 	done := make(chan struct{})
 	go func() { n.run(ctx, d); close(done) }()
@@ -169,4 +173,93 @@ holdfast_notify_oldest_queued_age_seconds{notifier="site-am"} 0
 			t.Error(err)
 		}
 	})
+}
+
+// A transition Alertmanager refuses with a 400 is parked and the queue goes
+// on: the transitions after it are delivered; the parked one shows in the
+// alarm history with the refusal, is counted, and raises the
+// notify_refused health alarm, which clears an hour later. A refused
+// notification about that health alarm itself does not keep it going.
+func TestRefusedNotificationParked(t *testing.T) {
+	synctest.Test(t, func(t *testing.T) {
+		am := &fakeAM{last: map[string]notify.AMAlert{}, refuse: "b"}
+		h := newAMHarness(t, `
+alarms:
+  - {name: notifications-refused, health: notify_refused, severity: high}
+`, am)
+		defer h.stop()
+		for _, alarm := range []string{"a", "b", "c"} {
+			h.event(alarm, alerts.Raised)
+		}
+		synctest.Wait()
+		time.Sleep(time.Millisecond)
+		synctest.Wait()
+		am.mu.Lock()
+		_, gotA := am.last["a"]
+		_, gotC := am.last["c"]
+		am.mu.Unlock()
+		if !gotA || !gotC {
+			t.Errorf("alertmanager has %v; want a and c, delivered past the refused b", am.last)
+		}
+		hs, _ := h.n.ob.Health()
+		if hs[0].Queued != 0 || hs[0].Parked != 1 || hs[0].Refused != 1 {
+			t.Errorf("outbox health %+v, want nothing queued and b parked", hs[0])
+		}
+		hist := h.d.parkedHistory("", time.Time{})
+		if len(hist) != 1 || hist[0].Kind != "notify-parked" || hist[0].Alarm != "b" || hist[0].Notifier != "site-am" ||
+			!strings.Contains(hist[0].Message, "400 Bad Request: invented refusal of b") {
+			t.Fatalf("history of parked notifications %+v", hist)
+		}
+		if got := h.d.parkedHistory("a", time.Time{}); len(got) != 0 {
+			t.Errorf("history of alarm a lists %+v", got)
+		}
+		merged := withParked([]EventJSON{{At: hist[0].At.Add(-time.Second), Alarm: "b"}, {At: hist[0].At.Add(time.Second), Alarm: "b"}}, hist, 0)
+		if len(merged) != 3 || merged[1].Kind != "notify-parked" {
+			t.Errorf("merged history %+v, want the parked entry between the two", merged)
+		}
+		want := `
+# HELP holdfast_notify_parked_notifications ` + helpParked + `
+# TYPE holdfast_notify_parked_notifications gauge
+holdfast_notify_parked_notifications{notifier="site-am"} 1
+`
+		if err := testutil.CollectAndCompare(notifyCollector{d: h.d}, strings.NewReader(want), "holdfast_notify_parked_notifications"); err != nil {
+			t.Error(err)
+		}
+
+		h.d.observeHealth(h.d.log, h.clk.Now())
+		synctest.Wait() // its raise is delivered
+		if st := alarmNamed(h.d, "notifications-refused"); !st.Active {
+			t.Errorf("health alarm %+v, want it active after a notification was parked", st)
+		}
+		// Its own raise is refused too (the fake refuses it from now on):
+		// parked, but not counted towards it.
+		am.mu.Lock()
+		am.refuse = "notifications-refused"
+		am.mu.Unlock()
+		h.event("notifications-refused", alerts.Raised)
+		synctest.Wait()
+		time.Sleep(time.Millisecond)
+		synctest.Wait()
+		if hs, _ := h.n.ob.Health(); hs[0].Parked != 2 {
+			t.Errorf("%d parked, want 2 (b and the health alarm's own raise)", hs[0].Parked)
+		}
+		if n := h.d.refusedLately(h.clk.Now()); n != 1 {
+			t.Errorf("refused lately: %d, want 1 (the health alarm's own refusal left out)", n)
+		}
+		time.Sleep(time.Duration(float64(refusedWindow+time.Minute) / h.clk.Speed()))
+		synctest.Wait()
+		h.d.observeHealth(h.d.log, h.clk.Now())
+		if st := alarmNamed(h.d, "notifications-refused"); st.Active {
+			t.Errorf("health alarm %+v, want it cleared an hour after the refusal", st)
+		}
+	})
+}
+
+func alarmNamed(d *Daemon, name string) alerts.AlarmStatus {
+	for _, s := range d.Alarms() {
+		if s.Alarm == name {
+			return s
+		}
+	}
+	return alerts.AlarmStatus{}
 }

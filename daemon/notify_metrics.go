@@ -9,6 +9,8 @@ const (
 		"notifications (a grouped message is one send), parked counts notifications the receiver refused for good " +
 		"(kept aside, see holdfast alarms history), repost and repost_failed count Alertmanager re-posts of active " +
 		"alarms, which deliver no new transition."
+	helpParked = "Notifications the notifier's receiver refused for good (an HTTP 4xx other than 408 and 429), kept aside " +
+		"for 30 days and shown by holdfast alarms history."
 	helpOldest = "How long the oldest notification waiting for the notifier has waited, on the daemon's clock; 0 when none waits."
 )
 
@@ -20,9 +22,7 @@ var (
 		[]string{"notifier"}, nil)
 	descNotifyOldest = prometheus.NewDesc("holdfast_notify_oldest_queued_age_seconds", helpOldest,
 		[]string{"notifier"}, nil)
-	descNotifyParked = prometheus.NewDesc("holdfast_notify_parked_notifications",
-		"Notifications the notifier's receiver refused for good (an HTTP 4xx other than 408 and 429), kept aside "+
-			"for 30 days and shown by holdfast alarms history.",
+	descNotifyParked = prometheus.NewDesc("holdfast_notify_parked_notifications", helpParked,
 		[]string{"notifier"}, nil)
 	descNotifyLast = prometheus.NewDesc("holdfast_notify_last_success_timestamp_seconds",
 		"Unix time of the notifier's last delivered send of a queued notification (re-posts do not count), "+
