@@ -12,14 +12,16 @@ import (
 // writes fail (1) or work (0). Their names cannot clash with a configured
 // gauge, whose names have no colon.
 const (
-	HealthDiskFree    = "holdfast:disk-free"
-	HealthStoreWrites = "holdfast:store-writes"
+	HealthDiskFree      = "holdfast:disk-free"
+	HealthStoreWrites   = "holdfast:store-writes"
+	HealthNotifyRefused = "holdfast:notify-refused" // notifications parked lately (a receiver refused them for good)
 )
 
 // Health is the daemon-health rule on one of the pseudo gauges: the data
-// disk's free share below Below, or store writes failing.
+// disk's free share below Below, store writes failing, or notifications
+// refused for good lately.
 type Health struct {
-	Check string  // HealthDiskFree or HealthStoreWrites
+	Check string  // HealthDiskFree, HealthStoreWrites or HealthNotifyRefused
 	Below float64 // disk: the free share that is too little
 }
 
@@ -40,6 +42,15 @@ func (r *Health) Observe(_ string, s calib.Sample, _ bool) Condition {
 		c.Detail = "sample store writes work again"
 		if c.Active {
 			c.Detail = "sample store writes are failing; samples are held in memory and retried"
+		}
+		return c
+	}
+	if r.Check == HealthNotifyRefused {
+		c.Active, c.Limit, c.Unit = s.Value > 0, 0, ""
+		c.ValueText = fmt.Sprintf("%g", s.Value)
+		c.Detail = "no notification refused lately"
+		if c.Active {
+			c.Detail = fmt.Sprintf("%g notification(s) refused for good by a receiver lately and parked; see holdfast alarms history", s.Value)
 		}
 		return c
 	}

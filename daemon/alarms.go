@@ -74,7 +74,7 @@ func (d *Daemon) observeHealth(log *slog.Logger, now time.Time) {
 	if d.alarms.StoreError() != nil {
 		failing = true
 	}
-	samples := map[string]float64{alerts.HealthStoreWrites: b2f(failing)}
+	samples := map[string]float64{alerts.HealthStoreWrites: b2f(failing), alerts.HealthNotifyRefused: float64(d.refusedLately(now))}
 	var fs syscall.Statfs_t
 	if err := syscall.Statfs(d.cfg.Store.Dir, &fs); err == nil && fs.Blocks > 0 {
 		samples[alerts.HealthDiskFree] = float64(fs.Bavail) / float64(fs.Blocks)

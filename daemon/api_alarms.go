@@ -84,6 +84,7 @@ type EventJSON struct {
 	Occurrence uint64    `json:"occurrence"`
 	DedupeKey  string    `json:"dedupe_key"`
 	By         string    `json:"by,omitempty"`
+	Notifier   string    `json:"notifier,omitempty"` // kind notify-parked: the notifier whose receiver refused it
 }
 
 func (d *Daemon) apiAlarmHistory(w http.ResponseWriter, r *http.Request) {
@@ -111,7 +112,7 @@ func (d *Daemon) apiAlarmHistory(w http.ResponseWriter, r *http.Request) {
 			State: string(ev.State), Message: ev.Message, Value: finite(ev.Value), Limit: finite(ev.Limit), Unit: ev.Unit,
 			Occurrence: ev.Occurrence, DedupeKey: ev.DedupeKey, By: ev.By}
 	}
-	writeJSON(w, out)
+	writeJSON(w, withParked(out, d.parkedHistory(q.Get("alarm"), from), limit))
 }
 
 // AlarmActionJSON is the body of POST /api/v1/alarms/{name}/{action}.

@@ -61,8 +61,11 @@ func (d *Daemon) rule(a *AlarmConfig) alerts.Rule {
 		u, _ := calib.ParseUnit(a.HoldTest.Unit, calib.Throughput)
 		return &alerts.HoldTest{Gauge: a.Gauge, Allowed: float64(a.HoldTest.AllowedLeak), Unit: u}
 	case "health":
-		if a.Health == "disk_free" {
+		switch a.Health {
+		case "disk_free":
 			return &alerts.Health{Check: alerts.HealthDiskFree, Below: r.below}
+		case "notify_refused":
+			return &alerts.Health{Check: alerts.HealthNotifyRefused}
 		}
 		return &alerts.Health{Check: alerts.HealthStoreWrites}
 	}

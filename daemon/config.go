@@ -35,6 +35,20 @@ type ChamberConfig struct {
 type HTTPConfig struct {
 	Listen    string `yaml:"listen"`     // host:port; default 127.0.0.1:9781
 	TokenFile string `yaml:"token_file"` // bearer token for changes (ack, activate, ...); none means changes are refused
+	// TokenCredential names a systemd credential holding the token instead
+	// (LoadCredential=NAME:PATH; read from $CREDENTIALS_DIRECTORY/NAME).
+	TokenCredential string `yaml:"token_credential"`
+
+	tokenCredentialPath string // set by the checker
+}
+
+// TokenPath is the file the daemon reads its bearer token from: the
+// credential's, or token_file.
+func (h HTTPConfig) TokenPath() string {
+	if h.tokenCredentialPath != "" {
+		return h.tokenCredentialPath
+	}
+	return h.TokenFile
 }
 
 // StoreConfig says where samples are kept.

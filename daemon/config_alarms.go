@@ -37,7 +37,7 @@ type AlarmConfig struct {
 	Fault     Duration         `yaml:"fault"` // no valid reading (fault, off, no answer) for this long
 	Disagree  *DisagreeConfig  `yaml:"disagree"`
 	PumpDown  *PumpDownConfig  `yaml:"pump_down"`
-	Health    string           `yaml:"health"` // disk_free | store_writes
+	Health    string           `yaml:"health"` // disk_free | store_writes | notify_refused
 	HoldTest  *HoldTestConfig  `yaml:"hold_test"`
 
 	r alarmResolved // SI values, resolved by the checker
@@ -212,9 +212,9 @@ func (v *checker) health(path string, a *AlarmConfig) {
 			v.problem(path+".below", "want the free share of the data disk as a percentage such as 5%%, got %q", a.Below.Value)
 		}
 		a.r.below = f / 100
-	case "store_writes":
-		v.expect(!a.Below.Set && !a.Above.Set, path, "store_writes takes no limit")
+	case "store_writes", "notify_refused":
+		v.expect(!a.Below.Set && !a.Above.Set, path, "%s takes no limit", a.Health)
 	default:
-		v.problem(path+".health", "want disk_free or store_writes, got %q", a.Health)
+		v.problem(path+".health", "want disk_free, store_writes or notify_refused, got %q", a.Health)
 	}
 }

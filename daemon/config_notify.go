@@ -2,14 +2,19 @@ package daemon
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
+	"io/fs"
 	"net"
 	"net/mail"
 	"net/url"
 	"os"
+	"os/user"
 	"path/filepath"
 	"slices"
+	"strconv"
 	"strings"
+	"syscall"
 	"time"
 
 	"holdfast/alerts/notify"
@@ -41,8 +46,9 @@ type RetryConfig struct {
 
 // WebhookConfig posts signed JSON to a URL.
 type WebhookConfig struct {
-	URL        string `yaml:"url"`
-	SecretFile string `yaml:"secret_file"` // the shared HMAC key, read at start; required
+	URL              string `yaml:"url"`
+	SecretFile       string `yaml:"secret_file"`       // the shared HMAC key, read at start; this or secret_credential is required
+	SecretCredential string `yaml:"secret_credential"` // or: the name of a systemd credential holding it (LoadCredential=)
 
 	secret []byte
 }
@@ -51,6 +57,7 @@ type WebhookConfig struct {
 type AlertmanagerConfig struct {
 	URL         string   `yaml:"url"`          // base URL, e.g. http://127.0.0.1:9093
 	ResendEvery Duration `yaml:"resend_every"` // re-post active alarms this often; default 1 min
+	DaemonURL   string   `yaml:"daemon_url"`   // how Alertmanager's users reach this daemon, for generatorURL; default http://<http.listen>
 }
 
 // MailConfig sends mail through an SMTP relay with STARTTLS.
@@ -59,8 +66,9 @@ type MailConfig struct {
 	From          string   `yaml:"from"`
 	To            []string `yaml:"to"`
 	Username      string   `yaml:"username"`
-	PasswordFile  string   `yaml:"password_file"`  // read at start; needed with username
-	PlainLoopback bool     `yaml:"plain_loopback"` // no TLS; only for a relay on 127.0.0.1 or ::1
+	PasswordFile  string   `yaml:"password_file"`       // read at start; needed with username (or password_credential)
+	PasswordCred  string   `yaml:"password_credential"` // or: the name of a systemd credential holding it
+	PlainLoopback bool     `yaml:"plain_loopback"`      // no TLS; only for a relay on 127.0.0.1 or ::1
 
 	password string
 }
@@ -85,6 +93,7 @@ var notifierKinds = []string{"webhook", "alertmanager", "mail", "exec"}
 
 // notifiers checks the notify: list and fills defaults.
 func (v *checker) notifiers(cfg *Config) {
+	v.httpToken(&cfg.HTTP)
 	seen := map[string]int{}
 	for i, n := range cfg.Notify {
 		path := fmt.Sprintf("notify[%d]", i)
@@ -122,9 +131,14 @@ func (v *checker) notifier(path string, n *NotifyConfig, i int) {
 	switch {
 	case n.Webhook != nil:
 		v.httpURL(path+".webhook.url", n.Webhook.URL)
-		n.Webhook.secret = v.secret(path+".webhook.secret_file", n.Webhook.SecretFile, true)
+		w := n.Webhook
+		w.secret = v.secret(secretRef{path: path + ".webhook", fileKey: "secret_file", credKey: "secret_credential",
+			file: w.SecretFile, credential: w.SecretCredential, required: true})
 	case n.Alertmanager != nil:
 		v.httpURL(path+".alertmanager.url", n.Alertmanager.URL)
+		if n.Alertmanager.DaemonURL != "" {
+			v.httpURL(path+".alertmanager.daemon_url", n.Alertmanager.DaemonURL)
+		}
 		if n.Alertmanager.ResendEvery == 0 {
 			n.Alertmanager.ResendEvery = Duration(defaultAMResend)
 		}
@@ -178,31 +192,157 @@ func (v *checker) mail(path string, m *MailConfig) {
 	}
 	v.expect(!m.PlainLoopback || host == "" || notify.IsLoopback(host), path+".plain_loopback",
 		"sending without TLS is allowed only to a relay on 127.0.0.1, ::1 or localhost; %q is not one (remove plain_loopback and use STARTTLS)", host)
-	v.expect((m.Username == "") == (m.PasswordFile == ""), path, "give username and password_file together, or neither")
-	if m.PasswordFile != "" {
-		m.password = string(v.secret(path+".password_file", m.PasswordFile, true))
+	hasPassword := m.PasswordFile != "" || m.PasswordCred != ""
+	v.expect((m.Username == "") == !hasPassword, path, "give username and password_file (or password_credential) together, or neither")
+	if hasPassword {
+		m.password = string(v.secret(secretRef{path: path, fileKey: "password_file", credKey: "password_credential",
+			file: m.PasswordFile, credential: m.PasswordCred, required: true}))
 	}
 }
 
-// secret reads a secret file: its content, surrounding white space removed.
-// The problem never quotes the content.
-func (v *checker) secret(path, file string, required bool) []byte {
-	if file == "" {
-		v.expect(!required, path, "missing; name a file holding the secret (mode 0600), e.g. /etc/holdfast/hook.key")
+// A secret is given either as a file (secret_file, password_file,
+// token_file) or as a systemd credential (secret_credential, ...): the
+// name of a credential the unit passes with LoadCredential=NAME:PATH,
+// which systemd (running as root) reads and hands to the service, however
+// unprivileged, as $CREDENTIALS_DIRECTORY/NAME (systemd.exec(5),
+// "Credentials"). With DynamicUser=yes this is how the service reads a
+// file only root may read.
+type secretRef struct {
+	path              string // the config path of the mapping, e.g. notify[0].webhook
+	fileKey, credKey  string // e.g. secret_file, secret_credential
+	file, credential  string
+	example, required bool
+}
+
+// secret reads a secret: its content, surrounding white space removed.
+// Problems never quote the content. A config being checked (holdfast
+// check) may lack a file that only the daemon's machine holds (a note);
+// but a file that exists and cannot be read is a problem, because the
+// daemon, running as the same user, could not read it either: that is how
+// the check in the unit's ExecStartPre catches a root-only secret before
+// the service starts and fails.
+func (v *checker) secret(r secretRef) []byte {
+	fileP, credP := r.path+"."+r.fileKey, r.path+"."+r.credKey
+	switch {
+	case r.file != "" && r.credential != "":
+		v.problem(r.path, "give %s or %s, not both", r.fileKey, r.credKey)
+		return nil
+	case r.credential != "":
+		return v.credential(credP, r.credential)
+	case r.file == "":
+		v.expect(!r.required, fileP, "missing; name a file holding the secret (mode 0600), e.g. /etc/holdfast/hook.key, "+
+			"or a systemd credential in %s", r.credKey)
 		return nil
 	}
-	b, err := os.ReadFile(file)
-	if err != nil && v.secretsOptional() {
-		v.cfg.Notes = append(v.cfg.Notes, fmt.Sprintf("%d: note: %s: cannot read the secret here (%v); the daemon will need it", v.line(path), path, err))
+	b, err := os.ReadFile(r.file)
+	switch {
+	case errors.Is(err, fs.ErrPermission):
+		cred := credentialName(r.file)
+		v.problem(fileP, "cannot read %s as %s: permission denied; a service running as this user cannot either. "+
+			"Under systemd pass it as a credential: LoadCredential=%s:%s in the unit and %s: %s here "+
+			"(see deploy/holdfast.service), or make it readable by the service's user", r.file, whoAmI(), cred, r.file, r.credKey, cred)
+		return nil
+	case err != nil && v.secretsOptional():
+		v.note(fileP, "cannot read the secret here (%v); the daemon will need it", err)
+		return nil
+	case err != nil:
+		v.problem(fileP, "cannot read the secret: %v", err)
 		return nil
 	}
-	if err != nil {
-		v.problem(path, "cannot read the secret: %v", err)
+	if v.secretsOptional() && os.Geteuid() == 0 && rootOnly(r.file) {
+		cred := credentialName(r.file)
+		v.note(fileP, "only root can read %s; the shipped unit runs holdfast as its own user (DynamicUser=yes), which "+
+			"cannot: pass it as a credential (LoadCredential=%s:%s in the unit, %s: %s here)", r.file, cred, r.file, r.credKey, cred)
+	}
+	b = bytes.TrimSpace(b)
+	v.expect(len(b) > 0, fileP, "%s is empty; put the secret in it", r.file)
+	return b
+}
+
+// credential reads $CREDENTIALS_DIRECTORY/name.
+func (v *checker) credential(path, name string) []byte {
+	if !validCredential(name) {
+		v.problem(path, "want a credential name such as hook-key (letters, digits, '-', '_', '.'; no '/'), got %q", name)
+		return nil
+	}
+	dir := os.Getenv("CREDENTIALS_DIRECTORY")
+	if dir == "" {
+		if v.secretsOptional() {
+			v.note(path, "read from $CREDENTIALS_DIRECTORY/%s when the unit passes it (LoadCredential=%s:/etc/holdfast/%s); not set here", name, name, name)
+			return nil
+		}
+		v.problem(path, "$CREDENTIALS_DIRECTORY is not set: run holdfast under systemd with LoadCredential=%s:/etc/holdfast/%s in the unit, or give the secret as a file", name, name)
+		return nil
+	}
+	b, err := os.ReadFile(filepath.Join(dir, name))
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		v.problem(path, "credential %q was not passed to the service: add LoadCredential=%s:/etc/holdfast/%s to the unit (%s has no %s)", name, name, name, dir, name)
+		return nil
+	case err != nil:
+		v.problem(path, "cannot read credential %q: %v", name, err)
 		return nil
 	}
 	b = bytes.TrimSpace(b)
-	v.expect(len(b) > 0, path, "%s is empty; put the secret in it", file)
+	v.expect(len(b) > 0, path, "credential %q is empty; put the secret in the file its LoadCredential= line names", name)
 	return b
+}
+
+// httpToken checks the bearer token's source (http.token_file or
+// http.token_credential) and records where the daemon will read it. A
+// token file that is missing is left to the daemon's start, which refuses
+// with the fix; one that exists but cannot be read is a problem here, as
+// for any secret.
+func (v *checker) httpToken(h *HTTPConfig) {
+	switch {
+	case h.TokenFile != "" && h.TokenCredential != "":
+		v.problem("http", "give token_file or token_credential, not both")
+	case h.TokenCredential != "":
+		v.credential("http.token_credential", h.TokenCredential)
+		h.tokenCredentialPath = filepath.Join(os.Getenv("CREDENTIALS_DIRECTORY"), h.TokenCredential)
+	case h.TokenFile != "":
+		if _, err := os.ReadFile(h.TokenFile); errors.Is(err, fs.ErrPermission) {
+			v.secret(secretRef{path: "http", fileKey: "token_file", credKey: "token_credential", file: h.TokenFile})
+		}
+	}
+}
+
+// validCredential reports whether s can name a systemd credential: "a short
+// ASCII string suitable as filename" (systemd.exec(5), LoadCredential=).
+func validCredential(s string) bool { return validName(s) && len(s) <= 255 && s != "." && s != ".." }
+
+// credentialName suggests a credential name for a secret file: its base
+// name.
+func credentialName(file string) string {
+	if n := filepath.Base(file); validCredential(n) {
+		return n
+	}
+	return "secret"
+}
+
+// rootOnly reports whether only root can read the file: owned by root,
+// not readable by others, and readable by its group only if that group
+// is root.
+func rootOnly(file string) bool {
+	fi, err := os.Stat(file)
+	if err != nil {
+		return false
+	}
+	st, ok := fi.Sys().(*syscall.Stat_t)
+	if !ok {
+		return false
+	}
+	m := fi.Mode().Perm()
+	return st.Uid == 0 && m&0o004 == 0 && (m&0o040 == 0 || st.Gid == 0)
+}
+
+// whoAmI names the user the process runs as, for messages.
+func whoAmI() string {
+	uid := os.Geteuid()
+	if u, err := user.LookupId(strconv.Itoa(uid)); err == nil {
+		return fmt.Sprintf("user %s (uid %d)", u.Username, uid)
+	}
+	return fmt.Sprintf("uid %d", uid)
 }
 
 func validName(s string) bool {

@@ -110,7 +110,7 @@ notify:
 		`notify.yaml:20: notify[3].mail.from: want a mail address`,
 		`notify[3].mail.to: missing`,
 		`notify[3].mail.plain_loopback: sending without TLS is allowed only to a relay on 127.0.0.1`,
-		`notify[3].mail: give username and password_file together, or neither`,
+		`notify[3].mail: give username and password_file (or password_credential) together, or neither`,
 		`notify.yaml:21: notify[4].exec.command: want an absolute path`,
 		`notify.yaml:22: notify[4].min_severity: want one of low, medium, high, critical, got "urgent"`,
 		`notify.yaml:23: notify[4].group_wait: want 0 to 10m0s, got 1h0m0s`,

@@ -98,7 +98,7 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 		return nil, err
 	}
 	d.alarms = alerts.NewEngine(d.limits())
-	if d.token, err = readToken(cfg.HTTP.TokenFile); err != nil {
+	if d.token, err = readToken(cfg.HTTP.TokenPath()); err != nil {
 		return nil, err
 	}
 	if err := os.MkdirAll(cfg.Store.Dir, 0o750); err != nil {

@@ -23,6 +23,7 @@ func (d *Daemon) notify(ev alerts.Event) error {
 	if !ok {
 		return nil
 	}
+	tr.Quality = d.gaugeQuality(ev.Gauge, d.clock.Now())
 	if err := n.enqueue(tr); err != nil {
 		n.log.Error("alarm transition not queued for notification", "alarm", tr.Alarm, "event", tr.Event, "err", err)
 		return err
@@ -69,6 +70,28 @@ func transitionOf(chamber string, ev alerts.Event) (notify.Transition, bool) {
 		tr.Since = ev.At
 	}
 	return tr, true
+}
+
+// gaugeQuality is what the gauge's last sample says about its value, for
+// a notification that has no value to show: ok, over-range, under-range,
+// sensor-fault, off, stale (no sample lately) or no-reply (the gauge is
+// down). Empty for a gauge that has not answered yet or is not a gauge
+// (the daemon's own health).
+func (d *Daemon) gaugeQuality(name string, now time.Time) string {
+	g := d.gaugeNamed(name)
+	if g == nil {
+		return ""
+	}
+	v := g.view(now)
+	switch {
+	case !v.seen:
+		return ""
+	case !v.up:
+		return "no-reply"
+	case v.stale:
+		return "stale"
+	}
+	return v.last.Quality.String()
 }
 
 // inUnit converts an SI value for a notification; nil when there is none.

@@ -2,15 +2,16 @@ package daemon
 
 import (
 	"context"
-	"time"
 
 	"holdfast/alerts/notify"
 )
 
 // resendLoop re-posts s's active alarms (and those cleared within the last
 // 5 min, as resolved) every resend interval, as Alertmanager expects of a
-// client that pushes to it. A failed re-post is counted and waits for the
-// next interval: the next one carries the same state.
+// client that pushes to it. Re-posts are counted apart from deliveries
+// (they deliver no transition and must not hide a stuck queue). A failed
+// re-post is counted and waits for the next interval: the next one carries
+// the same state.
 func (n *notifierSet) resendLoop(ctx context.Context, d *Daemon, s *sink) {
 	log := n.log.With("notifier", s.cfg.Name)
 	every := s.am.Resend
@@ -37,23 +38,13 @@ func (n *notifierSet) resendLoop(ctx context.Context, d *Daemon, s *sink) {
 		cancel()
 		switch {
 		case err == nil:
-			s.resendOK.Add(1)
-			s.lastResend.Store(now.UnixNano())
+			s.reposts.Add(1)
 		case ctx.Err() != nil:
 			return
 		default:
-			s.resendFailed.Add(1)
+			s.repostsFailed.Add(1)
 			log.Warn("alertmanager re-post failed; next try in one interval", "alerts", len(alerts),
 				"interval_seconds", every.Seconds(), "err", err)
 		}
 	}
-}
-
-// lastSuccess is the later of the outbox's last delivery and the last
-// re-post.
-func (s *sink) lastSuccess(outboxLast time.Time) time.Time {
-	if ns := s.lastResend.Load(); ns != 0 && time.Unix(0, ns).After(outboxLast) {
-		return time.Unix(0, ns)
-	}
-	return outboxLast
 }

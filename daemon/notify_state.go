@@ -31,8 +31,7 @@ type sink struct {
 	am   *notify.Alertmanager // set for an alertmanager notifier
 	rs   *notify.Resender     // what it must be told again
 
-	resendOK, resendFailed atomic.Uint64
-	lastResend             atomic.Int64 // Unix ns of the last good re-post
+	reposts, repostsFailed atomic.Uint64 // Alertmanager re-posts; never counted as deliveries
 }
 
 // notifiers returns the daemon's notifiers, nil when none are configured.
@@ -61,8 +60,9 @@ func newNotifierSet(cfg *Config, db *bolt.DB, clock Clock, log *slog.Logger) (*n
 		return nil, err
 	}
 	n := &notifierSet{log: log, clock: clock, ob: ob}
+	wall := newWallMap(clock)
 	for _, nc := range cfg.Notify {
-		s := newSink(nc)
+		s := newSink(nc, clock, wall)
 		p := outbox.Policy{GroupWait: nc.GroupWait.D(), MinBackoff: nc.Retry.Min.D(), MaxBackoff: nc.Retry.Max.D()}
 		if nc.Exec != nil {
 			p.MaxBatch = 1 // one run per transition, so its variables describe one alarm
@@ -75,19 +75,25 @@ func newNotifierSet(cfg *Config, db *bolt.DB, clock Clock, log *slog.Logger) (*n
 	return n, nil
 }
 
-func newSink(nc *NotifyConfig) *sink {
+// newSink builds one notifier. Every notifier takes its times from the
+// daemon's clock; those whose receivers compare times with their own wall
+// clock (signature age, Date, startsAt and endsAt) get them mapped to wall
+// time (see wallMap).
+func newSink(nc *NotifyConfig, clock Clock, wall wallMap) *sink {
 	s := &sink{cfg: nc}
 	client := &http.Client{}
+	wallNow := func() time.Time { return wall.wall(clock.Now()) }
 	switch {
 	case nc.Webhook != nil:
-		s.send = &notify.Webhook{URL: nc.Webhook.URL, Secret: nc.Webhook.secret, Client: client}
+		s.send = &notify.Webhook{URL: nc.Webhook.URL, Secret: nc.Webhook.secret, Client: client, Now: wallNow}
 	case nc.Alertmanager != nil:
-		s.am = &notify.Alertmanager{URL: nc.Alertmanager.URL, Resend: nc.Alertmanager.ResendEvery.D(), Client: client}
+		s.am = &notify.Alertmanager{URL: nc.Alertmanager.URL, Resend: nc.Alertmanager.ResendEvery.D(), Client: client,
+			Now: clock.Now, Wall: wall.wall}
 		s.send, s.rs = s.am, notify.NewResender()
 	case nc.Mail != nil:
 		m := nc.Mail
 		s.send = &notify.Mail{Server: m.Server, From: m.From, To: m.To, Username: m.Username,
-			Password: m.password, PlainLoopback: m.PlainLoopback}
+			Password: m.password, PlainLoopback: m.PlainLoopback, Now: wallNow}
 	case nc.Exec != nil:
 		s.send = &notify.Exec{Command: nc.Exec.Command, Args: nc.Exec.Args, Timeout: nc.Timeout.D()}
 	}
@@ -169,6 +175,11 @@ func (n *notifierSet) enqueue(tr notify.Transition) error {
 
 // run sends until ctx is done and returns after every loop has stopped.
 func (n *notifierSet) run(ctx context.Context, d *Daemon) {
+	for _, s := range n.sinks {
+		if s.am != nil { // before any send: the listener is bound by now
+			s.am.Link = d.daemonURL(s.cfg.Alertmanager.DaemonURL)
+		}
+	}
 	var wg sync.WaitGroup
 	wg.Go(func() { n.ob.Run(ctx) })
 	for _, s := range n.sinks {

@@ -183,8 +183,8 @@ notify:
 			t.Errorf("metrics lack %s", want)
 		}
 	}
-	if !strings.Contains(metrics, `holdfast_notify_deliveries_total{notifier="hook",result="failure"}`) ||
-		strings.Contains(metrics, `holdfast_notify_deliveries_total{notifier="hook",result="failure"} 0`) {
+	if !strings.Contains(metrics, `holdfast_notify_deliveries_total{notifier="hook",result="failed"}`) ||
+		strings.Contains(metrics, `holdfast_notify_deliveries_total{notifier="hook",result="failed"} 0`) {
 		t.Errorf("failures not counted:\n%s", metrics)
 	}
 }

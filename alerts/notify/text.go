@@ -21,13 +21,25 @@ func Summary(t Transition) string {
 	if t.Reminder > 0 {
 		fmt.Fprintf(&b, " (reminder %d: still %s)", t.Reminder, t.State)
 	}
-	if t.Value != nil {
+	switch {
+	case t.Value != nil:
 		fmt.Fprintf(&b, ", %s = %s %s", t.Gauge, number(t.Value), t.Unit)
 		if t.Limit != nil {
 			fmt.Fprintf(&b, " (limit %s %s)", number(t.Limit), t.Unit)
 		}
+	case t.Gauge != "" && t.Quality != "":
+		fmt.Fprintf(&b, ", %s has no value (%s)", t.Gauge, t.Quality)
 	}
 	return b.String()
+}
+
+// NoValue says why a transition carries no value, for receivers that
+// show fields: the gauge's quality, or "not known".
+func NoValue(t Transition) string {
+	if t.Quality != "" {
+		return "no value (" + t.Quality + ")"
+	}
+	return "no value"
 }
 
 // Describe is a transition in full, one field a line, for mail bodies and
@@ -47,7 +59,10 @@ func Describe(t Transition) string {
 	line("state", t.State)
 	if t.Value != nil {
 		line("value", number(t.Value)+" "+t.Unit)
+	} else if t.Gauge != "" {
+		line("value", NoValue(t))
 	}
+	line("quality", t.Quality)
 	if t.Limit != nil {
 		line("limit", number(t.Limit)+" "+t.Unit)
 	}

@@ -41,6 +41,7 @@ type Transition struct {
 	Value     *float64  `json:"value"`          // the gauge's value in Unit; null when not known
 	Limit     *float64  `json:"limit"`          // the limit crossed, in Unit; null when none applies
 	Unit      string    `json:"unit"`           // unit of value and limit, as the user configured it
+	Quality   string    `json:"quality"`        // the gauge's sample quality (ok, over-range, ...); empty when not known
 	Message   string    `json:"message"`        // one line for people, with the numbers
 	At        time.Time `json:"at"`             // when the event happened
 	Since     time.Time `json:"since,omitzero"` // when the alarm became active, if it is

@@ -83,6 +83,14 @@ type StatusError struct {
 	Body string // the reply's first bytes
 }
 
+// Permanent reports whether sending the same request again cannot
+// succeed: a 4xx answer, except 408 Request Timeout and 429 Too Many
+// Requests, says the request itself is at fault (RFC 9110 §15.5, §15.5.9;
+// RFC 6585 §4), so retrying it unchanged only blocks the queue behind it.
+func (e *StatusError) Permanent() bool {
+	return e.Code/100 == 4 && e.Code != http.StatusRequestTimeout && e.Code != http.StatusTooManyRequests
+}
+
 func (e *StatusError) Error() string {
 	msg := fmt.Sprintf("%s: %d %s", e.URL, e.Code, http.StatusText(e.Code))
 	if e.Body != "" {

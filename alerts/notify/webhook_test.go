@@ -64,7 +64,7 @@ func TestWebhookBodyAndSignature(t *testing.T) {
 		keys = append(keys, k)
 	}
 	slices.Sort(keys)
-	want := "alarm at chamber dedupe_key event gauge limit message reminder severity since state unit value"
+	want := "alarm at chamber dedupe_key event gauge limit message quality reminder severity since state unit value"
 	if strings.Join(keys, " ") != want {
 		t.Errorf("transition fields:\n got %s\nwant %s", strings.Join(keys, " "), want)
 	}

@@ -13,9 +13,13 @@ type Health struct {
 	Queued      int       // entries waiting in the outbox
 	Damaged     int       // entries moved aside as unreadable
 	Delivered   uint64    // successful sends since the outbox was opened
-	Failed      uint64    // failed sends since the outbox was opened
+	Failed      uint64    // failed sends since the outbox was opened (a refused one included)
+	Refused     uint64    // entries parked since the outbox was opened
+	Parked      int       // parked entries kept now
 	LastSuccess time.Time // last successful send, kept across restarts; zero if never
+	LastParked  time.Time // when an entry was last parked, kept across restarts; zero if never
 	LastError   string    // the last failure's reason; empty after a success
+	Oldest      time.Time // when the oldest queued entry was queued; zero for an empty queue
 }
 
 // Health reports every registered notifier, in the order they were added.
@@ -35,15 +39,38 @@ func (o *Outbox) Health() ([]Health, error) {
 			if err != nil {
 				return err
 			}
-			out[i].Queued = b.Bucket(bucketQueue).Stats().KeyN
+			q := b.Bucket(bucketQueue)
+			out[i].Queued = q.Stats().KeyN
 			out[i].Damaged = b.Bucket(bucketDamaged).Stats().KeyN
+			if pb := b.Bucket(bucketParked); pb != nil {
+				out[i].Parked = pb.Stats().KeyN
+			}
 			if v := b.Get(keyLastSuccess); len(v) == 8 && out[i].LastSuccess.IsZero() {
 				out[i].LastSuccess = time.Unix(0, int64(binary.BigEndian.Uint64(v)))
 			}
+			if v := b.Get(keyLastParked); len(v) == 8 && out[i].LastParked.IsZero() {
+				out[i].LastParked = time.Unix(0, int64(binary.BigEndian.Uint64(v)))
+			}
+			out[i].Oldest = oldest(q)
 		}
 		return nil
 	})
 	return out, err
+}
+
+// oldest is the creation time of the first decodable entry in q/: seqs
+// grow with time, so it is the one that has waited longest.
+func oldest(q *bolt.Bucket) time.Time {
+	c := q.Cursor()
+	for k, v := c.First(); k != nil; k, v = c.Next() {
+		if len(k) != 8 {
+			continue
+		}
+		if e, _, err := decodeRecord(binary.BigEndian.Uint64(k), v); err == nil {
+			return e.Created
+		}
+	}
+	return time.Time{}
 }
 
 // reportOrphans warns about entries queued for notifiers that are no

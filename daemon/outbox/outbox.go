@@ -19,13 +19,17 @@ var (
 	bucketKeys     = []byte("k")
 	bucketRemind   = []byte("r")
 	bucketDamaged  = []byte("damaged")
+	bucketParked   = []byte("parked")
 	keyLastSuccess = []byte("last-success")
+	keyLastParked  = []byte("last-parked")
 )
 
-// Index values in k/: 'p' + seq while queued, 'd' + delivery time.
+// Index values in k/: 'p' + seq while queued, 'd' + delivery time, 'x' +
+// seq once parked.
 const (
 	markPending   = 'p'
 	markDelivered = 'd'
+	markParked    = 'x'
 )
 
 // A Clock gives the outbox its times and waits; the daemon's clock fits.
@@ -54,6 +58,7 @@ type record struct {
 	Attempts int    `json:"attempts,omitempty"`
 	Reminder int    `json:"reminder,omitempty"`
 	LastErr  string `json:"last_err,omitempty"`
+	Parked   int64  `json:"parked_ns,omitempty"` // in parked/: when it was parked
 }
 
 // A SendFunc delivers one batch (one message) and reports whether it
@@ -110,6 +115,11 @@ type notifier struct {
 	send   SendFunc
 	wake   chan struct{}
 	log    *slog.Logger
+
+	// splitThrough is owned by the notifier's serve loop: after a batch
+	// was refused for good, entries up to this seq go one at a time, so
+	// that only the one the receiver refuses is parked.
+	splitThrough uint64
 
 	mu     sync.Mutex
 	health Health
@@ -187,7 +197,7 @@ func notifierBucket(tx *bolt.Tx, name string, create bool) (*bolt.Bucket, error)
 	if err != nil {
 		return nil, err
 	}
-	for _, sub := range [][]byte{bucketQueue, bucketKeys, bucketRemind, bucketDamaged} {
+	for _, sub := range [][]byte{bucketQueue, bucketKeys, bucketRemind, bucketDamaged, bucketParked} {
 		if _, err := b.CreateBucketIfNotExists(sub); err != nil {
 			return nil, err
 		}

@@ -103,7 +103,11 @@ func (o *Outbox) head(n *notifier, now time.Time) (batch []Entry, dueAt time.Tim
 			if dueAt.IsZero() || next.Before(dueAt) {
 				dueAt = next
 			}
-			if len(batch) < n.policy.MaxBatch {
+			limit := n.policy.MaxBatch
+			if len(batch) > 0 && batch[0].Seq <= n.splitThrough {
+				limit = 1
+			}
+			if len(batch) < limit {
 				batch = append(batch, e)
 			}
 		}
@@ -140,17 +144,32 @@ func (o *Outbox) moveDamaged(n *notifier, seqs []uint64) error {
 }
 
 // settle records a send's outcome: a delivered batch leaves the queue and
-// its keys are marked delivered in the same transaction; a failed one is
-// retried after the backoff, and nothing queued goes out before that
-// unless a new entry arrives.
+// its keys are marked delivered in the same transaction; a batch the
+// receiver refused for good is parked when it is one entry, and otherwise
+// sent again one entry at a time at once, so that only the refused entry
+// is parked; any other failure is retried after the backoff, and nothing
+// queued goes out before that unless a new entry arrives.
 func (o *Outbox) settle(n *notifier, batch []Entry, sendErr error, now time.Time) {
 	var err error
-	if sendErr == nil {
+	parked := 0
+	switch {
+	case sendErr == nil:
 		err = o.db.Update(func(tx *bolt.Tx) error { return delivered(tx, n.name, batch, now) })
 		if err == nil {
 			n.log.Debug("notification delivered", "entries", len(batch), "first_key", batch[0].Key)
 		}
-	} else {
+	case Permanent(sendErr) && len(batch) == 1:
+		err = o.db.Update(func(tx *bolt.Tx) error { return park(tx, n.name, batch[0], sendErr.Error(), now) })
+		if err == nil {
+			parked = 1
+		}
+		n.log.Error("notification refused by the receiver for good; parked, and the queue goes on",
+			"key", batch[0].Key, "attempts", batch[0].Attempts+1, "err", sendErr)
+	case Permanent(sendErr):
+		n.splitThrough = batch[len(batch)-1].Seq
+		n.log.Warn("notification batch refused for good; sending its entries one at a time to find the refused one",
+			"entries", len(batch), "err", sendErr)
+	default:
 		wait := backoff(batch[0].Attempts+1, n.policy)
 		err = o.db.Update(func(tx *bolt.Tx) error { return failed(tx, n.name, batch, sendErr, now.Add(wait)) })
 		n.log.Warn("notification not delivered; will retry", "entries", len(batch),
@@ -165,6 +184,10 @@ func (o *Outbox) settle(n *notifier, batch []Entry, sendErr error, now time.Time
 	} else {
 		n.health.Failed++
 		n.health.LastError = sendErr.Error()
+	}
+	if parked > 0 {
+		n.health.Refused += uint64(parked)
+		n.health.LastParked = now
 	}
 	if err != nil {
 		// The receiver has the batch (or not) but the store did not take the
@@ -224,7 +247,8 @@ func failed(tx *bolt.Tx, name string, batch []Entry, sendErr error, next time.Ti
 	return nil
 }
 
-// prune forgets delivered keys older than the notifier's KeepDelivered.
+// prune forgets delivered keys, and parked entries, older than the
+// notifier's KeepDelivered.
 func (o *Outbox) prune(n *notifier, now time.Time) {
 	cut := now.Add(-n.policy.KeepDelivered).UnixNano()
 	err := o.db.Update(func(tx *bolt.Tx) error {
@@ -245,7 +269,7 @@ func (o *Outbox) prune(n *notifier, now time.Time) {
 				return err
 			}
 		}
-		return nil
+		return pruneParked(b, cut)
 	})
 	if err != nil {
 		n.log.Warn("delivered keys not pruned", "err", err)
