@@ -123,10 +123,10 @@ func hingeKnee(t, p []float64) (Onset, bool) {
 func hingeAt(x []float64, k int, s1, s2, sp, stp []float64, spp float64) (float64, [3]float64, bool) {
 	n, xk := float64(len(x)), x[k]
 	m := float64(len(x) - k)
-	h1 := s1[k] - xk*m                  // Σ h
-	h2 := s2[k] - 2*xk*s1[k] + xk*xk*m  // Σ h²
-	hx := s2[k] - xk*s1[k]              // Σ h·x
-	hp := stp[k] - xk*sp[k]             // Σ h·p
+	h1 := s1[k] - xk*m                 // Σ h
+	h2 := s2[k] - 2*xk*s1[k] + xk*xk*m // Σ h²
+	hx := s2[k] - xk*s1[k]             // Σ h·x
+	hp := stp[k] - xk*sp[k]            // Σ h·p
 	a := [3][3]float64{{n, s1[0], h1}, {s1[0], s2[0], hx}, {h1, hx, h2}}
 	b := [3]float64{sp[0], stp[0], hp}
 	c, ok := solve3(a, b)
