@@ -328,7 +328,8 @@ func (res *RiseResult) classify() {
 // supports. A leak (leak-dominated, mixed) is claimed only when the leak
 // term's interval Q ± k·u excludes zero, and only when the model not
 // chosen, if it fits about as well (|ΔBIC| < TellApartBIC), gives the same
-// class. Otherwise, and when outgassing dominates, the leak is stated only
+// class; so does the line when the curved model's τ is pinned at its
+// upper bound (the data then do not place the bend). Otherwise, and when outgassing dominates, the leak is stated only
 // as its upper bound, the total rate of rise at the end of the record.
 func (res *RiseResult) limitConfidence() {
 	q, u := res.LeakRate, res.LeakRateExpanded
@@ -342,16 +343,30 @@ func (res *RiseResult) limitConfidence() {
 		res.Classification, res.UpperBoundOnly = Inconclusive, true
 		res.Reason = fmt.Sprintf("the leak term %.3g ± %.2g Pa·m³/s (k = %g) is not told from zero (%s); %s",
 			q, u, res.CoverageFactor, res.Reason, bound)
-	case res.altKnown && math.Abs(res.DeltaBIC) < TellApartBIC && classOf(res.altShare) != res.Classification:
+	case res.altKnown && res.notToldApart() && classOf(res.altShare) != res.Classification:
 		other := ModelLine
 		if res.Fit.Model == ModelLine {
 			other = ModelCurved
 		}
-		res.Reason = fmt.Sprintf("the %s and the %s model fit about equally well (ΔBIC = %.2g) but call the rise "+
-			"%s and %s: record longer to tell them apart; %s", res.Fit.Model, other, res.DeltaBIC,
-			res.Classification, classOf(res.altShare), bound)
+		why := fmt.Sprintf("the %s and the %s model fit about equally well (ΔBIC = %.2g)", res.Fit.Model, other, res.DeltaBIC)
+		if math.Abs(res.DeltaBIC) >= TellApartBIC {
+			why = fmt.Sprintf("the rise bends too little for its curvature to be placed (τ at its bound, %.3g s), so the "+
+				"split between leak and outgassing is set by that bound, not by the record", res.Fit.Tau)
+		}
+		res.Reason = fmt.Sprintf("leak and outgassing cannot be told apart: %s, and the %s model calls the rise %s, "+
+			"the %s model %s (a slowly falling outgassing, as during a pump-down, looks like a leak over a short "+
+			"record); record longer or after more pumping; %s", why, res.Fit.Model, res.Classification, other,
+			classOf(res.altShare), bound)
 		res.Classification, res.UpperBoundOnly = Inconclusive, true
 	}
+}
+
+// notToldApart reports whether the record cannot choose between the line
+// and the curved model: their BICs are within TellApartBIC, or the curved
+// model's τ sits at its upper bound (its bend is then fixed by the bound).
+func (res *RiseResult) notToldApart() bool {
+	return math.Abs(res.DeltaBIC) < TellApartBIC ||
+		res.Fit.Model == ModelCurved && res.Fit.Tau >= tauMaxSpans*0.999*res.Span
 }
 
 func classOf(share float64) Classification {

@@ -86,6 +86,12 @@ func (d *Daemon) holdTrend(gauge string, settle, dur time.Duration, now time.Tim
 		}
 		return true
 	})
+	return trendOf(tr, gauge, ts, ps, last, seen, w, dur)
+}
+
+// trendOf judges the trend from the window's in-range samples (ts, ps)
+// and the quality of its newest sample, if any was seen.
+func trendOf(tr HoldTrendJSON, gauge string, ts, ps []float64, last calib.Quality, seen bool, w, dur time.Duration) HoldTrendJSON {
 	tr.Samples = len(ts)
 	if seen {
 		tr.LastQuality = last.String()
