@@ -78,6 +78,13 @@ const (
 	minCurvedPoints   = 5
 	riseCoverage      = 3.0 // a rise below 3 standard uncertainties is not told from noise
 	riseOutlierFactor = 3.0 // a residual above 3 noise units counts as an outlier
+	// CoverageK is the coverage factor of every stated interval (JCGM
+	// 100:2008, §6.3.3: k = 2 gives about 95 % for a normal distribution).
+	CoverageK = 2.0
+	// TellApartBIC is the |ΔBIC| below which the line and the curved model
+	// are not told apart: "not worth more than a bare mention" on the scale
+	// of Kass & Raftery, JASA 90 (1995) 773, §3.2 (from memory).
+	TellApartBIC = 2.0
 )
 
 func (o RiseOptions) withDefaults() RiseOptions {
@@ -105,6 +112,18 @@ type RiseResult struct {
 	// LeakRate is Q = V·a with its standard uncertainty (k = 1).
 	LeakRate            float64 `json:"leak_rate_pa_m3_per_s"`
 	LeakRateUncertainty float64 `json:"leak_rate_uncertainty_pa_m3_per_s"`
+	// CoverageFactor is k of the expanded uncertainty U = k·u that results
+	// are stated with (2: about 95 % for normal errors; JCGM 100:2008,
+	// GUM, §6.2–6.3), and LeakRateExpanded is U of LeakRate.
+	CoverageFactor   float64 `json:"coverage_factor"`
+	LeakRateExpanded float64 `json:"leak_rate_expanded_uncertainty_pa_m3_per_s"`
+	// LeakUpperBound is V·(dp/dt at the end of the record + k·u): outgassing
+	// only adds to the rise and falls with time, so the leak cannot exceed
+	// the total rate of rise at the end. UpperBoundOnly says the leak can
+	// be stated only as that bound (outgassing dominates, or the leak term
+	// is not told from zero); LeakRate is then not a finding.
+	LeakUpperBound float64 `json:"leak_rate_upper_bound_pa_m3_per_s"`
+	UpperBoundOnly bool    `json:"leak_rate_is_upper_bound"`
 	// OutgassingRate is V·b/τ, the curved part's throughput at the start
 	// of the record (0 for the line model), with its standard uncertainty.
 	OutgassingRate            float64 `json:"outgassing_rate_pa_m3_per_s"`
@@ -146,6 +165,10 @@ type RiseQuality struct {
 	// BIC(curved), and above 0 the curved model was chosen.
 	CurvedTried bool    `json:"curved_tried"`
 	DeltaBIC    float64 `json:"delta_bic"`
+	// altShare is the leak share under the model not chosen (line: 1),
+	// for telling whether the choice matters; altKnown says it was fitted.
+	altShare float64
+	altKnown bool
 	// Notes say what was done to the record and what to watch.
 	Notes []string `json:"notes"`
 }

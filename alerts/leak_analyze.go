@@ -144,8 +144,10 @@ func fitRise(rec record, q *RiseQuality) (RiseFit, error) {
 	chosen := line
 	if cerr == nil {
 		q.DeltaBIC = 2*(line.loss-curved.loss)*nEff/float64(n) - 2*math.Log(nEff)
+		q.altShare, q.altKnown = normShare(curved), true
 		if q.DeltaBIC > 0 {
 			chosen = curved
+			q.altShare = normShare(line)
 		}
 	}
 	cov, err := d.covariance(chosen, nEff)
@@ -161,6 +163,19 @@ func fitRise(rec record, q *RiseQuality) (RiseFit, error) {
 	q.Outliers = d.outliers(chosen.resid)
 	d.noteFit(chosen, rec, q)
 	return toSI(chosen, cov, pRef, pScale, span), nil
+}
+
+// normShare returns the share of a normalised fit's rise over the record
+// that its linear term explains, as summarise computes it.
+func normShare(f normFit) float64 {
+	linear, curved := max(f.coef[1], 0), 0.0
+	if f.model == ModelCurved {
+		curved = max(f.coef[2]*-math.Expm1(-1/f.theta), 0)
+	}
+	if linear+curved == 0 {
+		return 0
+	}
+	return linear / (linear + curved)
 }
 
 func bestOf(line, curved normFit, cerr error) normFit {
@@ -268,7 +283,19 @@ func (res *RiseResult) summarise() {
 	if linear+curved > 0 {
 		res.LeakShare = linear / (linear + curved)
 	}
+	res.CoverageFactor, res.LeakRateExpanded = CoverageK, CoverageK*res.LeakRateUncertainty
+	rate, uRate := f.Rate(span), f.spread(f.rateGradient(span))
+	res.LeakUpperBound = max(v*(rate+CoverageK*uRate), 0)
 	res.classify()
+}
+
+// rateGradient returns ∂(dp/dt)(t)/∂(P0, Slope, Curve, Tau).
+func (f RiseFit) rateGradient(t float64) [4]float64 {
+	if f.Tau <= 0 {
+		return [4]float64{0, 1, 0, 0}
+	}
+	e := math.Exp(-t / f.Tau)
+	return [4]float64{0, 1, e / f.Tau, f.Curve * e / (f.Tau * f.Tau) * (t/f.Tau - 1)}
 }
 
 func (res *RiseResult) classify() {
@@ -292,8 +319,54 @@ func (res *RiseResult) classify() {
 			res.Notes = append(res.Notes, "the linear term is negative: something removes gas (a pump, a "+
 				"getter, a cooling chamber) or the gauge drifts")
 		}
+		res.limitConfidence()
 	}
 	res.Notes = slices.Clip(res.Notes)
+}
+
+// limitConfidence keeps a classification from claiming more than the fit
+// supports. A leak (leak-dominated, mixed) is claimed only when the leak
+// term's interval Q ± k·u excludes zero, and only when the model not
+// chosen, if it fits about as well (|ΔBIC| < TellApartBIC), gives the same
+// class; so does the line when the curved model's τ is pinned at its
+// upper bound (the data then do not place the bend). Otherwise, and when outgassing dominates, the leak is stated only
+// as its upper bound, the total rate of rise at the end of the record.
+func (res *RiseResult) limitConfidence() {
+	q, u := res.LeakRate, res.LeakRateExpanded
+	bound := fmt.Sprintf("the leak is at most %.3g Pa·m³/s (the total rate of rise at the end of the record, "+
+		"V·dp/dt + %g u)", res.LeakUpperBound, res.CoverageFactor)
+	switch {
+	case res.Classification == OutgassingDominated:
+		res.UpperBoundOnly = true
+		res.Reason += "; an upper bound only: " + bound
+	case q-u <= 0:
+		res.Classification, res.UpperBoundOnly = Inconclusive, true
+		res.Reason = fmt.Sprintf("the leak term %.3g ± %.2g Pa·m³/s (k = %g) is not told from zero (%s); %s",
+			q, u, res.CoverageFactor, res.Reason, bound)
+	case res.altKnown && res.notToldApart() && classOf(res.altShare) != res.Classification:
+		other := ModelLine
+		if res.Fit.Model == ModelLine {
+			other = ModelCurved
+		}
+		why := fmt.Sprintf("the %s and the %s model fit about equally well (ΔBIC = %.2g)", res.Fit.Model, other, res.DeltaBIC)
+		if math.Abs(res.DeltaBIC) >= TellApartBIC {
+			why = fmt.Sprintf("the rise bends too little for its curvature to be placed (τ at its bound, %.3g s), so the "+
+				"split between leak and outgassing is set by that bound, not by the record", res.Fit.Tau)
+		}
+		res.Reason = fmt.Sprintf("leak and outgassing cannot be told apart: %s, and the %s model calls the rise %s, "+
+			"the %s model %s (a slowly falling outgassing, as during a pump-down, looks like a leak over a short "+
+			"record); record longer or after more pumping; %s", why, res.Fit.Model, res.Classification, other,
+			classOf(res.altShare), bound)
+		res.Classification, res.UpperBoundOnly = Inconclusive, true
+	}
+}
+
+// notToldApart reports whether the record cannot choose between the line
+// and the curved model: their BICs are within TellApartBIC, or the curved
+// model's τ sits at its upper bound (its bend is then fixed by the bound).
+func (res *RiseResult) notToldApart() bool {
+	return math.Abs(res.DeltaBIC) < TellApartBIC ||
+		res.Fit.Model == ModelCurved && res.Fit.Tau >= tauMaxSpans*0.999*res.Span
 }
 
 func classOf(share float64) Classification {

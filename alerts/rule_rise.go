@@ -103,12 +103,45 @@ func (r *RiseWatch) Observe(gauge string, s calib.Sample, active bool) Condition
 	if r.buf.Len() < 2 || r.buf.span() < 0.8*r.Window.Seconds() {
 		return unknown() // wait for a full window
 	}
-	res, err := r.buf.Analyze(r.Volume, r.Options)
+	res, err := r.analyzeIsolated()
 	if err != nil {
 		return unknown()
 	}
 	r.Last = res
 	return r.judge(res)
+}
+
+// analyzeIsolated analyses the window, or only its part after the chamber
+// was isolated when the window holds the knee where a pumped (flat or
+// falling) pressure turned into a rise: a fit across the knee mixes two
+// regimes and understates the leak. When the isolated part is shorter than
+// a full window (0.8 × Window, as for any window), the result is
+// inconclusive and says how long the chamber has been isolated.
+func (r *RiseWatch) analyzeIsolated() (RiseResult, error) {
+	t, p := r.buf.t[r.buf.head:], r.buf.p[r.buf.head:]
+	o, ok := IsolationOnset(t, p)
+	if !ok {
+		return AnalyzeRise(t, p, r.Volume, r.Options)
+	}
+	since := r.buf.newest - o.At
+	knee := fmt.Sprintf("the window holds the start of an isolation %s ago (dp/dt rose from %.3g to %.3g Pa/s)",
+		(time.Duration(since * float64(time.Second))).Round(time.Second), o.Before, o.After)
+	if need := 0.8 * r.Window.Seconds(); since < need {
+		return RiseResult{Classification: Inconclusive, Volume: r.Volume, RiseQuality: RiseQuality{Notes: []string{}},
+			Reason: fmt.Sprintf("%s: waiting until the isolated record spans %s before fitting it", knee,
+				time.Duration(need*float64(time.Second)).Round(time.Second))}, nil
+	}
+	var ti, pi []float64
+	for i := range t {
+		if t[i] >= o.At {
+			ti, pi = append(ti, t[i]), append(pi, p[i])
+		}
+	}
+	res, err := AnalyzeRise(ti, pi, r.Volume, r.Options)
+	if err == nil {
+		res.Notes = append(res.Notes, knee+": fitted only the part after it")
+	}
+	return res, err
 }
 
 // observeSwitch takes the isolation from a state sample: 1 isolated, 0
@@ -139,8 +172,12 @@ func (r *RiseWatch) judge(res RiseResult) Condition {
 	case LeakDominated, Mixed:
 		c.Active = res.LeakRate > r.MaxLeak
 	}
-	c.Detail = fmt.Sprintf("rise over the last %s is %s: leak rate %s ± %s (limit %s)", r.Window, res.Classification,
-		c.ValueText, calib.Format(res.LeakRateUncertainty, r.Unit), c.LimitText)
+	c.Detail = fmt.Sprintf("rise over the last %s is %s: leak rate %s ± %s (k = %g; limit %s)", r.Window, res.Classification,
+		c.ValueText, calib.Format(res.LeakRateExpanded, r.Unit), res.CoverageFactor, c.LimitText)
+	if res.UpperBoundOnly {
+		c.Detail = fmt.Sprintf("rise over the last %s is %s: leak rate at most %s (limit %s)", r.Window, res.Classification,
+			calib.Format(res.LeakUpperBound, r.Unit), c.LimitText)
+	}
 	return c
 }
 

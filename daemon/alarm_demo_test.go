@@ -16,6 +16,13 @@ import (
 // the demo's alarms, returning every event.
 func demoAlarmEvents(t *testing.T, upTo time.Duration) ([]alerts.Event, *alerts.Engine) {
 	t.Helper()
+	return demoAlarmRun(t, upTo, nil)
+}
+
+// demoAlarmRun is demoAlarmEvents calling hook, when not nil, with the
+// simulated time, the engine and the events of each sample.
+func demoAlarmRun(t *testing.T, upTo time.Duration, hook func(time.Time, *alerts.Engine, []alerts.Event)) ([]alerts.Event, *alerts.Engine) {
+	t.Helper()
 	b, err := os.ReadFile(filepath.Join("..", "deploy", "examples", "demo.yaml"))
 	if err != nil {
 		t.Fatal(err)
@@ -55,7 +62,11 @@ func demoAlarmEvents(t *testing.T, upTo time.Duration) ([]alerts.Event, *alerts.
 			}
 			g.transfer = in.Transfer()
 			s, _ := (&Daemon{clock: wallClock{}}).sample(g, r)
-			evs = append(evs, e.Observe(name, s)...)
+			got := e.Observe(name, s)
+			evs = append(evs, got...)
+			if hook != nil {
+				hook(now, e, got)
+			}
 		}
 	}
 	return evs, e

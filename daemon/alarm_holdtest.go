@@ -6,12 +6,12 @@ import (
 	"fmt"
 	"log/slog"
 	"math"
+	"strings"
 	"time"
 
 	"holdfast/alerts"
 	"holdfast/calib"
 	"holdfast/daemon/alarmstore"
-	"holdfast/daemon/store"
 )
 
 // Hold-test states.
@@ -49,6 +49,16 @@ type HoldTestJSON struct {
 	Result      *alerts.RiseResult `json:"result,omitempty"`
 	Error       string             `json:"error,omitempty"`
 	Unit        string             `json:"unit"`
+	// StartCheck is the pressure trend measured when the test was asked
+	// for; Evidence what the record held (coverage, range).
+	StartCheck *HoldTrendJSON    `json:"start_check,omitempty"`
+	Evidence   *HoldEvidenceJSON `json:"evidence,omitempty"`
+	// Suppressed lists the alarms the test suppressed by design (IEC
+	// 62682) for its isolation; StillSuppressed those not yet put back,
+	// SuppressedUntil when they are put back at the latest.
+	Suppressed      []string   `json:"suppressed_alarms,omitempty"`
+	StillSuppressed []string   `json:"still_suppressed,omitempty"`
+	SuppressedUntil *time.Time `json:"suppressed_until,omitempty"`
 }
 
 // holdDefaults returns the hold-test alarm configured for gauge, if any.
@@ -62,15 +72,18 @@ func (d *Daemon) holdDefaults(gauge string) *HoldTestConfig {
 }
 
 // startHoldTest starts a hold test asked for through the API.
-func (d *Daemon) startHoldTest(gauge string, settle, dur time.Duration) (HoldTestJSON, error) {
-	return d.beginHoldTest(gauge, settle, dur, false)
+func (d *Daemon) startHoldTest(gauge string, settle, dur time.Duration, force bool) (HoldTestJSON, error) {
+	return d.beginHoldTest(gauge, settle, dur, false, force)
 }
 
 // beginHoldTest stores a new hold test and isolates the chamber where the
 // daemon can (a configured valve, or the simulator); rise-watch alarms are
 // told it is isolated. Only one hold test runs at a time, and with a
 // confirm switch and no valve the test does not start while it reads open.
-func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, scheduled bool) (HoldTestJSON, error) {
+// Unless forced it does not start while the gauge is out of range or the
+// pressure still falls fast (startCheck). The alarms the test provokes are
+// suppressed by design until it is over.
+func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, scheduled, force bool) (HoldTestJSON, error) {
 	g := d.cfg.Gauges[gauge]
 	if g == nil || g.Kind != "pressure" {
 		return HoldTestJSON{}, fmt.Errorf("gauge %q: want a configured pressure gauge", gauge)
@@ -81,6 +94,10 @@ func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, schedule
 	if id := d.alarms.RunningHoldTest(); id != "" {
 		return HoldTestJSON{}, fmt.Errorf("hold test %s is still running; wait for it to finish", id)
 	}
+	trend, err := startCheck(d.holdTrend(gauge, settle, dur, d.clock.Now()), force)
+	if err != nil {
+		return HoldTestJSON{}, err
+	}
 	st := alarmstore.Wrap(d.store.Bolt())
 	id, err := st.NewHoldTestID()
 	if err != nil {
@@ -89,7 +106,9 @@ func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, schedule
 	if running, ok := d.alarms.ClaimHoldTest(id); !ok {
 		return HoldTestJSON{}, fmt.Errorf("hold test %s is still running; wait for it to finish", running)
 	}
-	h, err := d.isolateForHoldTest(d.newHoldTest(id, gauge, settle, dur, scheduled))
+	h := d.newHoldTest(id, gauge, settle, dur, scheduled)
+	h.StartCheck = &trend
+	h, err = d.isolateForHoldTest(h)
 	if err == nil {
 		err = d.putHoldTest(st, h)
 	}
@@ -97,6 +116,12 @@ func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, schedule
 		d.putBackValve(d.log, &h)
 		d.alarms.ReleaseHoldTest(id)
 		return HoldTestJSON{}, err
+	}
+	// Within a poll of the valve moving, before the pressure can climb.
+	if d.suppressForHoldTest(d.log, &h); len(h.Suppressed) > 0 {
+		if err := d.putHoldTest(st, h); err != nil {
+			d.log.Error("hold test not stored", "id", h.ID, "err", err)
+		}
 	}
 	d.alarms.SetIsolated(true)
 	return h, nil
@@ -171,7 +196,15 @@ func (d *Daemon) holdTests(_ context.Context, log *slog.Logger, st *alarmstore.S
 		log.Warn("hold tests unreadable", "err", err)
 	}
 	for _, h := range hs {
-		if !holdRunning(h.State) || !d.advanceHoldTest(log, &h, now) {
+		if !holdRunning(h.State) {
+			if d.liftHoldSuppression(log, &h, now) {
+				if err := d.putHoldTest(st, h); err != nil {
+					log.Error("hold test not stored", "id", h.ID, "err", err)
+				}
+			}
+			continue
+		}
+		if !d.advanceHoldTest(log, &h, now) {
 			continue
 		}
 		if err := d.putHoldTest(st, h); err != nil {
@@ -213,7 +246,7 @@ func (d *Daemon) advanceHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Tim
 // failHoldTest ends h without a result: the valve is put back and the
 // hold-test alarm is told the test was inconclusive.
 func (d *Daemon) failHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time, reason string) {
-	d.endIsolation(log, h)
+	d.endIsolation(log, h, now)
 	h.State, h.Error, h.Verdict = holdFailed, reason, "inconclusive"
 	if h.Coil != nil && h.Coil.Error != "" {
 		h.Error += "; " + h.Coil.Error
@@ -223,41 +256,45 @@ func (d *Daemon) failHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time, 
 }
 
 // endIsolation undoes what the test did to isolate the chamber and frees
-// the hold-test claim.
-func (d *Daemon) endIsolation(log *slog.Logger, h *HoldTestJSON) {
+// the hold-test claim; the alarms it suppressed are put back as they clear.
+func (d *Daemon) endIsolation(log *slog.Logger, h *HoldTestJSON, now time.Time) {
 	d.putBackValve(log, h)
 	if h.Valve == "simulator" {
 		d.simValve(h.Gauge, false)
 	}
 	d.alarms.SetIsolated(false)
 	d.alarms.ReleaseHoldTest(h.ID)
+	endSuppression(h, now)
 }
 
 func (d *Daemon) finishHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time) {
-	d.endIsolation(log, h)
-	var ts, ps []float64
-	err := d.store.Range(h.Gauge, h.RecordFrom, h.RecordTo, func(p store.Point) bool {
-		if calib.Quality(p.Quality) == calib.QualityOK {
-			ts, ps = append(ts, p.At.Sub(h.RecordFrom).Seconds()), append(ps, p.Value)
-		}
-		return true
-	})
+	d.endIsolation(log, h, now)
+	ts, ps, ev, err := d.holdRecord(h)
+	if c := h.StartCheck; c != nil && c.Forced && h.Scheduled {
+		// Nobody chose to run it anyway: its result is not a finding.
+		ev.Problems = append(ev.Problems, "the scheduled test started although "+c.Refusal)
+	}
+	h.Evidence = &ev
 	res, aerr := alerts.AnalyzeRise(ts, ps, h.VolumeM3, alerts.RiseOptions{})
 	if err == nil {
 		err = aerr
+	}
+	if err != nil && len(ev.Problems) > 0 {
+		err = fmt.Errorf("%s (%w)", strings.Join(ev.Problems, "; "), err)
 	}
 	if err != nil {
 		d.failHoldTest(log, h, now, err.Error())
 		return
 	}
+	applyEvidence(&res, ev)
 	h.State, h.Result = holdDone, &res
-	h.Verdict, h.Summary = holdVerdict(h, res)
+	var q float64
+	h.Verdict, h.Summary, q = holdVerdict(h, res)
+	if h.StartCheck != nil && h.StartCheck.Forced {
+		h.Summary += "; warning: " + h.StartCheck.Warning
+	}
 	if h.Coil != nil && h.Coil.Error != "" {
 		h.Error = h.Coil.Error
-	}
-	q := res.LeakRate
-	if res.Classification == alerts.Inconclusive {
-		q = math.NaN()
 	}
 	d.holdResult(log, h.Gauge, q, now)
 	if svg, err := riseSVG(h, ts, ps, res); err != nil {
@@ -268,18 +305,36 @@ func (d *Daemon) finishHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time
 	log.Info("hold test done", "id", h.ID, "gauge", h.Gauge, "verdict", h.Verdict, "leak_rate_pa_m3_per_s", res.LeakRate)
 }
 
-func holdVerdict(h *HoldTestJSON, res alerts.RiseResult) (string, string) {
+// holdVerdict judges a result against the allowed leak rate with its
+// uncertainty, as conformity is judged with guard bands (JCGM 106:2012,
+// §8: accept when the interval lies within the limit, reject when it lies
+// beyond it): pass when Q + U ≤ allowed, fail when Q − U > allowed,
+// inconclusive in between. An upper bound passes when it is within the
+// limit and decides nothing otherwise. It returns the verdict, the summary
+// and the leak rate for the hold-test alarm (NaN: nothing decided).
+func holdVerdict(h *HoldTestJSON, res alerts.RiseResult) (string, string, float64) {
 	u, _ := calib.ParseUnit(h.Unit, calib.Throughput)
-	q := calib.Format(res.LeakRate, u) + " ± " + calib.Format(res.LeakRateUncertainty, u)
+	f := func(v float64) string { return calib.Format(v, u) }
+	q, U := res.LeakRate, res.LeakRateExpanded
+	found := fmt.Sprintf("leak rate %s ± %s (k = %g, %s)", f(q), f(U), res.CoverageFactor, res.Classification)
+	if res.UpperBoundOnly {
+		q, U = res.LeakUpperBound, 0
+		found = fmt.Sprintf("leak rate at most %s (upper bound: %s)", f(q), res.Reason)
+	}
 	switch {
 	case res.Classification == alerts.Inconclusive:
-		return "inconclusive", "inconclusive: " + res.Reason
+		return "inconclusive", "inconclusive: " + res.Reason, math.NaN()
 	case h.AllowedLeak == nil:
-		return "", fmt.Sprintf("leak rate %s (%s); no allowed leak rate configured", q, res.Classification)
-	case res.LeakRate > *h.AllowedLeak:
-		return "fail", fmt.Sprintf("leak rate %s (%s) exceeds the allowed %s", q, res.Classification, calib.Format(*h.AllowedLeak, u))
+		return "", found + "; no allowed leak rate configured", q
+	case q+U <= *h.AllowedLeak:
+		return "pass", found + " within the allowed " + f(*h.AllowedLeak), q
+	case !res.UpperBoundOnly && q-U > *h.AllowedLeak:
+		return "fail", found + " exceeds the allowed " + f(*h.AllowedLeak), q
+	case res.UpperBoundOnly:
+		return "inconclusive", found + " does not show the leak within the allowed " + f(*h.AllowedLeak) +
+			": outgassing dominates; pump or bake longer and test again", math.NaN()
 	}
-	return "pass", fmt.Sprintf("leak rate %s (%s) within the allowed %s", q, res.Classification, calib.Format(*h.AllowedLeak, u))
+	return "inconclusive", found + ": the allowed " + f(*h.AllowedLeak) + " lies within the interval; record longer", math.NaN()
 }
 
 // holdResult hands a finished test's leak rate to the hold-test alarms.

@@ -18,7 +18,7 @@ func riseSVG(h *HoldTestJSON, ts, ps []float64, res alerts.RiseResult) ([]byte, 
 		return nil, fmt.Errorf("no samples to plot")
 	}
 	p := plot.New()
-	p.Title.Text = fmt.Sprintf("hold test %s: %s on %s", h.ID, h.Gauge, h.Chamber)
+	p.Title.Text = fmt.Sprintf("hold test %s: %s on %s\n%s", h.ID, h.Gauge, h.Chamber, fitCaption(res))
 	p.X.Label.Text = "time since recording began (s)"
 	p.Y.Label.Text = "pressure (Pa)"
 	pts := make(plotter.XYs, len(ts))
@@ -46,6 +46,20 @@ func riseSVG(h *HoldTestJSON, ts, ps []float64, res alerts.RiseResult) ([]byte, 
 		p.Add(l)
 		p.Legend.Add("fit: "+string(res.Fit.Model), l)
 	}
+	if res.Span > 0 {
+		lo, hi := minMax(ps)
+		for i, x := range []float64{res.Start, res.Start + res.Span} {
+			l, err := plotter.NewLine(plotter.XYs{{X: x, Y: lo}, {X: x, Y: hi}})
+			if err != nil {
+				return nil, err
+			}
+			l.Dashes = []vg.Length{vg.Points(3), vg.Points(2)}
+			p.Add(l)
+			if i == 0 {
+				p.Legend.Add(fmt.Sprintf("window fitted: %.4g s to %.4g s", res.Start, res.Start+res.Span), l)
+			}
+		}
+	}
 	p.Legend.Top, p.Legend.Left = true, true
 	w, err := p.WriterTo(18*vg.Centimeter, 11*vg.Centimeter, "svg")
 	if err != nil {
@@ -56,4 +70,31 @@ func riseSVG(h *HoldTestJSON, ts, ps []float64, res alerts.RiseResult) ([]byte, 
 		return nil, err
 	}
 	return buf.Bytes(), nil
+}
+
+// fitCaption states the fit's result in one line for the plot's title.
+func fitCaption(res alerts.RiseResult) string {
+	switch {
+	case res.Classification == alerts.Inconclusive:
+		return "inconclusive: " + shorten(res.Reason, 90)
+	case res.UpperBoundOnly:
+		return fmt.Sprintf("%s: leak at most %.3g Pa·m³/s (upper bound)", res.Classification, res.LeakUpperBound)
+	}
+	return fmt.Sprintf("%s: leak %.3g ± %.2g Pa·m³/s (k = %g)", res.Classification, res.LeakRate, res.LeakRateExpanded, res.CoverageFactor)
+}
+
+func shorten(s string, n int) string {
+	r := []rune(s)
+	if len(r) <= n {
+		return s
+	}
+	return string(r[:n-1]) + "…"
+}
+
+func minMax(v []float64) (lo, hi float64) {
+	lo, hi = v[0], v[0]
+	for _, x := range v {
+		lo, hi = min(lo, x), max(hi, x)
+	}
+	return lo, hi
 }

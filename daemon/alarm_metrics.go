@@ -17,7 +17,7 @@ var (
 		"1 while the alarm is chattering (raised repeatedly within its chatter window), else 0.",
 		[]string{"alarm", "gauge", "severity"}, nil)
 	descLeakRate = prometheus.NewDesc("holdfast_leak_rate_pascal_cubic_meters_per_second",
-		"Leak rate Q = V·dp/dt found by the last conclusive hold test on the gauge (1 Pa·m³/s = 10 mbar·L/s).",
+		"Leak rate Q = V·dp/dt found by the last hold test on the gauge whose rise was leak-dominated or mixed: its leak term, never outgassing or an upper bound (1 Pa·m³/s = 10 mbar·L/s).",
 		[]string{"gauge"}, nil)
 )
 
@@ -36,7 +36,8 @@ func (d *Daemon) collectAlarms(ch chan<- prometheus.Metric) {
 	hs, _ := d.recentHoldTests(50)
 	last := map[string]float64{}
 	for _, h := range hs {
-		if h.State == holdDone && h.Result != nil && h.Result.Classification != alerts.Inconclusive {
+		if h.State == holdDone && h.Result != nil && !h.Result.UpperBoundOnly &&
+			(h.Result.Classification == alerts.LeakDominated || h.Result.Classification == alerts.Mixed) {
 			last[h.Gauge] = h.Result.LeakRate
 		}
 	}

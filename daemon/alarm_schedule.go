@@ -33,7 +33,9 @@ func (d *Daemon) holdSchedules(now time.Time) []*holdSchedule {
 
 // runSchedules starts the hold tests that are due at now. A test due while
 // another runs, or whose switch says the chamber is open, is skipped until
-// its next time, and the reason is logged.
+// its next time, and the reason is logged. One whose start check refuses it
+// (pressure still falling) runs, with the warning recorded and its verdict
+// inconclusive: an unattended record is kept, but it claims nothing.
 func (d *Daemon) runSchedules(log *slog.Logger, scheds []*holdSchedule, now time.Time) {
 	for _, s := range scheds {
 		if now.Before(s.next) {
@@ -41,7 +43,7 @@ func (d *Daemon) runSchedules(log *slog.Logger, scheds []*holdSchedule, now time
 		}
 		due := s.next
 		s.next = s.sched.Next(now)
-		h, err := d.beginHoldTest(s.gauge, s.cfg.Settle.D(), s.cfg.Duration.D(), true)
+		h, err := d.beginHoldTest(s.gauge, s.cfg.Settle.D(), s.cfg.Duration.D(), true, true)
 		if err != nil {
 			log.Warn("scheduled hold test skipped", "gauge", s.gauge, "due", due, "next", s.next, "err", err)
 			continue

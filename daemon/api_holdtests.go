@@ -23,6 +23,10 @@ type HoldTestStartJSON struct {
 	Gauge    string `json:"gauge"`
 	Settle   string `json:"settle"`
 	Duration string `json:"duration"`
+	// Force starts the test although the start check refuses it (gauge
+	// out of range, pressure still falling fast); the report keeps the
+	// warning.
+	Force bool `json:"force,omitempty"`
 }
 
 func (d *Daemon) apiHoldTestStart(w http.ResponseWriter, r *http.Request) {
@@ -44,7 +48,7 @@ func (d *Daemon) apiHoldTestStart(w http.ResponseWriter, r *http.Request) {
 		apiError(w, http.StatusBadRequest, "duration: "+err.Error())
 		return
 	}
-	h, err := d.startHoldTest(b.Gauge, settle, dur)
+	h, err := d.startHoldTest(b.Gauge, settle, dur, b.Force)
 	if err != nil {
 		apiError(w, http.StatusConflict, err.Error())
 		return

@@ -91,7 +91,7 @@ func TestAlarmsDownIsVisible(t *testing.T) {
 	if err := testutil.GatherAndCompare(d.met.reg, strings.NewReader(want), "holdfast_alarms_up"); err != nil {
 		t.Error(err)
 	}
-	if _, err := d.beginHoldTest("p", time.Minute, time.Minute, false); err == nil || !strings.Contains(err.Error(), "alarms are not running") {
+	if _, err := d.beginHoldTest("p", time.Minute, time.Minute, false, false); err == nil || !strings.Contains(err.Error(), "alarms are not running") {
 		t.Errorf("hold test while alarms are down: err %v", err)
 	}
 }

@@ -20,12 +20,13 @@ func cmdHoldTest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	if len(args) > 0 && args[0] != "" && args[0][0] != '-' {
 		sub, args = args[0], args[1:]
 	}
-	fs := newFlags("holdtest", "[start --gauge G [--settle 2m] [--duration 10m] | list | show ID [--svg FILE]] [flags]", stderr)
+	fs := newFlags("holdtest", "[start --gauge G [--settle 2m] [--duration 10m] [--force] | list | show ID [--svg FILE]] [flags]", stderr)
 	api := addAPIFlags(fs)
 	gauge := fs.String("gauge", "", "start: the pressure `gauge` that records the rise")
 	settle := fs.String("settle", "", "start: wait this long after isolating before recording (default: the gauge's hold_test alarm, else 2m)")
 	dur := fs.String("duration", "", "start: record this long (default: the gauge's hold_test alarm, else 10m)")
 	svg := fs.String("svg", "", "show: also write the plot of the rise to this `file`")
+	force := fs.Bool("force", false, "start: start although the pressure still falls fast or the gauge is out of range (the report keeps the warning)")
 	asJSON := fs.Bool("json", false, "print JSON")
 	id, err := parseWithName(fs, args, sub == "show", "hold test (its ID, from holdfast holdtest list)")
 	if err != nil {
@@ -38,7 +39,7 @@ func cmdHoldTest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 			return errUsage("holdtest start needs --gauge")
 		}
 		var h daemon.HoldTestJSON
-		body := daemon.HoldTestStartJSON{Gauge: *gauge, Settle: *settle, Duration: *dur}
+		body := daemon.HoldTestStartJSON{Gauge: *gauge, Settle: *settle, Duration: *dur, Force: *force}
 		if err := api.do(ctx, "POST", "/api/v1/holdtests", body, &h); err != nil {
 			return err
 		}
@@ -71,6 +72,7 @@ func cmdHoldTest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 		}
 		fmt.Fprintf(stdout, "hold test %s on %s (%s), %s\n  recorded %s to %s\n  %s\n", h.ID, h.Gauge, h.Chamber, h.State,
 			h.RecordFrom.Format("2006-01-02 15:04:05"), h.RecordTo.Format("15:04:05"), h.Summary)
+		printHoldEvidence(stdout, h)
 		if h.Error != "" {
 			fmt.Fprintf(stdout, "  error: %s\n", h.Error)
 		}
@@ -78,6 +80,35 @@ func cmdHoldTest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	}
 	fs.Usage()
 	return errUsage("unknown holdtest command %q", sub)
+}
+
+// printHoldEvidence says what the result rests on: the record's coverage
+// and range, the fit's interval, the start check and the alarms suppressed.
+func printHoldEvidence(w io.Writer, h daemon.HoldTestJSON) {
+	if ev := h.Evidence; ev != nil {
+		fmt.Fprintf(w, "  record: %.4g s in range of the %.4g s asked for, %d samples in range, %d out of range, longest gap %.3g s\n",
+			ev.RecordedSeconds, ev.RequestedSeconds, ev.InRange, ev.OutOfRange, ev.LongestGapS)
+		for _, p := range ev.Problems {
+			fmt.Fprintf(w, "  not judged: %s\n", p)
+		}
+	}
+	if r := h.Result; r != nil && r.Fit.Model != "" {
+		fmt.Fprintf(w, "  fit: %s over %.4g s from %.4g s, %d points; leak term %.3g ± %.2g Pa·m³/s (k = %g); upper bound %.3g Pa·m³/s\n",
+			r.Fit.Model, r.Span, r.Start, r.Points, r.LeakRate, r.LeakRateExpanded, r.CoverageFactor, r.LeakUpperBound)
+		for _, n := range r.Notes {
+			fmt.Fprintf(w, "  note: %s\n", n)
+		}
+	}
+	if c := h.StartCheck; c != nil && c.Warning != "" {
+		fmt.Fprintf(w, "  warning: %s\n", c.Warning)
+	}
+	if len(h.Suppressed) > 0 {
+		fmt.Fprintf(w, "  suppressed by design during the test: %s", strings.Join(h.Suppressed, ", "))
+		if len(h.StillSuppressed) > 0 {
+			fmt.Fprintf(w, " (still suppressed: %s)", strings.Join(h.StillSuppressed, ", "))
+		}
+		fmt.Fprintln(w)
+	}
 }
 
 func saveSVG(ctx context.Context, api *apiClient, id, file string) error {
@@ -119,6 +150,12 @@ func printHoldStart(w io.Writer, h daemon.HoldTestJSON) {
 	default:
 		fmt.Fprintf(w, "hold test %s on %s: settling until %s, recording until %s (valve: %s)\n",
 			h.ID, h.Gauge, h.RecordFrom.Format("15:04:05"), h.RecordTo.Format("15:04:05"), h.Valve)
+	}
+	if c := h.StartCheck; c != nil && c.Warning != "" {
+		fmt.Fprintf(w, "warning: %s\n", c.Warning)
+	}
+	if len(h.Suppressed) > 0 {
+		fmt.Fprintf(w, "suppressed by design until the chamber is pumped again: %s\n", strings.Join(h.Suppressed, ", "))
 	}
 	switch h.Valve {
 	case "manual":
