@@ -97,6 +97,9 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 	if err := d.buildGauges(); err != nil {
 		return nil, err
 	}
+	for _, g := range d.gauges {
+		g.slack = pollSlack(d.clock)
+	}
 	d.alarms = alerts.NewEngine(d.limits())
 	if d.token, err = readToken(cfg.HTTP.TokenFile); err != nil {
 		return nil, err
