@@ -101,6 +101,7 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 		g.slack = pollSlack(d.clock)
 	}
 	d.alarms = alerts.NewEngine(d.limits())
+	d.alarms.SetShelfLimits(alerts.ShelfLimits{Default: cfg.Shelving.Default.D(), Max: cfg.Shelving.Max.D()})
 	if d.token, err = readToken(cfg.HTTP.TokenFile); err != nil {
 		return nil, err
 	}
