@@ -66,6 +66,7 @@ var commands = map[string]command{
 	"export":    {"write stored samples as CSV, JSON lines or OpenMetrics", cmdExport},
 	"import":    {"load history from a CSV file into a data directory", cmdImport},
 	"db":        {"store file: stats, compact, backup", cmdDB},
+	"token":     {"make the bearer token file that guards the daemon's changes", cmdToken},
 }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
