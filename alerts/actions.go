@@ -10,7 +10,7 @@ type Action struct {
 	Alarm  string
 	By     string    // who asks, for the history ("" when unknown)
 	Reason string    // why (shelve, suppress, out of service)
-	Until  time.Time // shelving expiry; zero means until unshelved
+	Until  time.Time // shelving expiry; zero means the engine's default length
 	At     time.Time // when, on the daemon's clock
 }
 
@@ -26,21 +26,29 @@ func (e *Engine) Ack(a Action) (Event, error) {
 	})
 }
 
-// Shelve hides the alarm until a.Until (or until unshelved). While
+// Shelve hides the alarm until a.Until. A shelf always ends: with no
+// Until it lasts the engine's default (ShelfLimits), and no shelf may last
+// longer than the maximum; a critical alarm must be given its end. While
 // shelved the condition is still tracked but raises no one.
 func (e *Engine) Shelve(a Action) (Event, error) {
 	return e.act(a, func(st *alarmState) (Event, error) {
 		if st.s.OutOfService {
 			return Event{}, fmt.Errorf("alarm %s is out of service: %w", st.a.Name, ErrNoChange)
 		}
-		if !a.Until.IsZero() && !a.Until.After(a.At) {
+		if a.Until.IsZero() {
+			if st.a.Severity == SeverityCritical {
+				return Event{}, fmt.Errorf("alarm %s is critical: say how long to shelve it (for, at most %s): %w", st.a.Name, e.shelf.Max, ErrShelfLimit)
+			}
+			a.Until = a.At.Add(e.shelf.Default)
+		}
+		if !a.Until.After(a.At) {
 			return Event{}, fmt.Errorf("shelve %s until %s: that is not after now (%s)", st.a.Name, a.Until.Format(time.RFC3339), a.At.Format(time.RFC3339))
 		}
-		st.s.Shelved, st.s.ShelvedUntil, st.s.Reason, st.s.Acked, st.s.Since = true, a.Until, a.Reason, true, a.At
-		msg := st.a.Name + " shelved" + by(a.By)
-		if !a.Until.IsZero() {
-			msg += " until " + a.Until.Format(time.RFC3339)
+		if a.Until.Sub(a.At) > e.shelf.Max {
+			return Event{}, fmt.Errorf("shelve %s for %s: at most %s is allowed (shelving.max in the config): %w", st.a.Name, a.Until.Sub(a.At).Round(time.Second), e.shelf.Max, ErrShelfLimit)
 		}
+		st.s.Shelved, st.s.ShelvedUntil, st.s.Reason, st.s.Acked, st.s.Since = true, a.Until, a.Reason, true, a.At
+		msg := st.a.Name + " shelved" + by(a.By) + " until " + a.Until.Format(time.RFC3339)
 		ev := st.event(ShelvedEv, a.At, msg+because(a.Reason))
 		ev.Until, ev.By = a.Until, a.By
 		return ev, nil

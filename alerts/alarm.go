@@ -8,6 +8,10 @@ import (
 // A Severity ranks how urgently a person must act on an alarm.
 type Severity string
 
+// SeverityCritical is the highest severity: such an alarm is never shelved
+// without an end given.
+const SeverityCritical Severity = "critical"
+
 // A State is one of the alarm states of IEC 62682 (ISA-18.2).
 type State string
 

@@ -38,11 +38,41 @@ type Engine struct {
 	attached bool
 	saveErr  error
 	holdTest string // id of the hold test running, if any; see ClaimHoldTest
+	shelf    ShelfLimits
+}
+
+// ShelfLimits bound shelving: a shelf always ends. Default is how long a
+// shelf asked for without an end lasts; Max is the longest any shelf may
+// last. A critical alarm is never shelved without an end given.
+type ShelfLimits struct {
+	Default, Max time.Duration
+}
+
+// DefaultShelfLimits are the limits of an engine not given any: a shift
+// (8 h) by default, a day at most.
+var DefaultShelfLimits = ShelfLimits{Default: 8 * time.Hour, Max: 24 * time.Hour}
+
+// SetShelfLimits sets how long shelving lasts by default and at most;
+// a zero field keeps DefaultShelfLimits' value. Call it before Attach.
+func (e *Engine) SetShelfLimits(l ShelfLimits) {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	e.shelf = l.orDefault()
+}
+
+func (l ShelfLimits) orDefault() ShelfLimits {
+	if l.Default <= 0 {
+		l.Default = DefaultShelfLimits.Default
+	}
+	if l.Max <= 0 {
+		l.Max = max(DefaultShelfLimits.Max, l.Default)
+	}
+	return l
 }
 
 // NewEngine returns an engine for the given alarms. Names must be unique.
 func NewEngine(alarms []*Alarm) *Engine {
-	e := &Engine{byGauge: map[string][]*alarmState{}, byName: map[string]*alarmState{}}
+	e := &Engine{byGauge: map[string][]*alarmState{}, byName: map[string]*alarmState{}, shelf: DefaultShelfLimits}
 	for _, a := range alarms {
 		st := newAlarmState(a)
 		for _, g := range a.Rule.Gauges() {
@@ -74,6 +104,11 @@ func (e *Engine) Attach(st Store) ([]Event, error) {
 	for _, s := range saved {
 		if a := e.byName[s.Alarm]; a != nil {
 			a.s = s
+			if s.Shelved && s.ShelvedUntil.IsZero() {
+				// Shelved without an end by an older version: the shelf
+				// now ends at the longest allowed after it began.
+				a.s.ShelvedUntil, a.dirty = s.Since.Add(e.shelf.Max), true
+			}
 		}
 	}
 	evs, err := st.Undelivered()
@@ -179,6 +214,10 @@ var ErrUnknownAlarm = errors.New("no such alarm")
 
 // ErrNoChange reports an operator action that does not apply in the alarm's state.
 var ErrNoChange = errors.New("nothing to change")
+
+// ErrShelfLimit means a shelving request broke the shelf limits: no end
+// for a critical alarm, or an end past the longest allowed.
+var ErrShelfLimit = errors.New("shelving limit")
 
 // SetIsolated tells every rise-watch alarm that is not set to watch always
 // whether the chamber is isolated from its pumps. Rise watches that read

@@ -2,15 +2,20 @@ package alerts
 
 import (
 	"bufio"
+	"encoding/csv"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"strconv"
 	"strings"
+
+	"holdfast/calib"
 )
 
-// RiseCSVHeader is the header line of a pressure-rise CSV file.
+// RiseCSVHeader is the header line of a pressure-rise CSV file whose
+// pressure unit is given elsewhere (holdfast leak --unit). A header may
+// name the unit instead: "time_s,pressure_mbar", "time_s,pressure_Pa".
 const RiseCSVHeader = "time_s,pressure"
 
 // A RiseRecord is a pressure-rise record as read from a file, pressures
@@ -24,6 +29,9 @@ type RiseRecord struct {
 	// Digits is the most significant digits any pressure was written with
 	// ("0.0120" has 3); 0 when unknown or 10 or more (continuous values).
 	Digits int
+	// Unit is the pressure unit the header names ("pressure_mbar"); the
+	// zero Unit when the header says only "pressure".
+	Unit calib.Unit
 }
 
 // ReadingStep returns the resolution the file's digits show, for a file
@@ -40,32 +48,44 @@ func (r RiseRecord) ReadingStep(unit float64) ReadingStep {
 const maxCSVProblems = 20
 
 // ReadRiseCSV reads a pressure-rise CSV file: a header line
-// "time_s,pressure", then one "time,pressure" pair per line. Blank lines and
-// lines starting with # are ignored, as are spaces around fields and a
-// byte-order mark. Every bad line is reported as name:line with what is
-// expected.
+// "time_s,pressure" or "time_s,pressure_UNIT" (pressure_mbar, pressure_Pa,
+// pressure_Torr), then one time and one pressure per line. It reads CSV as
+// encoding/csv does (RFC 4180), so a spreadsheet's export with quoted
+// fields and CRLF line ends reads too. Blank lines and lines starting with
+// # are ignored, as are spaces around fields and a byte-order mark. Every
+// bad line is reported as name:line with what is expected.
 func ReadRiseCSV(r io.Reader, name string) (RiseRecord, error) {
 	var rec RiseRecord
 	var problems []string
-	sc := bufio.NewScanner(r)
-	sc.Buffer(make([]byte, 0, 64*1024), 1<<20)
-	line, header := 0, false
+	cr := csv.NewReader(bomless(r))
+	cr.Comment, cr.FieldsPerRecord, cr.TrimLeadingSpace, cr.ReuseRecord = '#', -1, true, true
+	header := false
 	step, digits := math.Inf(1), 0
-	for sc.Scan() {
-		line++
-		text := strings.TrimSpace(strings.TrimPrefix(sc.Text(), "\ufeff"))
-		if text == "" || strings.HasPrefix(text, "#") {
+	for {
+		f, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		var pe *csv.ParseError
+		if errors.As(err, &pe) {
+			problems = append(problems, fmt.Sprintf("%s:%d: %v", name, pe.Line, pe.Err))
 			continue
 		}
+		if err != nil {
+			return RiseRecord{}, fmt.Errorf("%s: %w", name, err)
+		}
+		line, _ := cr.FieldPos(0)
 		if !header {
 			header = true
-			if h := strings.ReplaceAll(strings.ToLower(text), " ", ""); h != RiseCSVHeader {
-				problems = append(problems, fmt.Sprintf("%s:%d: header is %q, want %q", name, line, text, RiseCSVHeader))
+			u, err := riseHeader(f)
+			if err != nil {
+				problems = append(problems, fmt.Sprintf("%s:%d: %v", name, line, err))
 				break
 			}
+			rec.Unit = u
 			continue
 		}
-		t, p, ps, err := parseRiseLine(text)
+		t, p, ps, err := parseRiseFields(f)
 		if err != nil {
 			problems = append(problems, fmt.Sprintf("%s:%d: %v", name, line, err))
 			continue
@@ -83,11 +103,8 @@ func ReadRiseCSV(r io.Reader, name string) (RiseRecord, error) {
 			digits = max(digits, d)
 		}
 	}
-	if err := sc.Err(); err != nil {
-		return RiseRecord{}, fmt.Errorf("%s:%d: %w", name, line+1, err)
-	}
 	if !header && len(problems) == 0 {
-		problems = append(problems, fmt.Sprintf("%s: no header line: the first line must be %q", name, RiseCSVHeader))
+		problems = append(problems, fmt.Sprintf("%s: no header line: the first line must be %q or name the unit, as %q", name, RiseCSVHeader, "time_s,pressure_mbar"))
 	}
 	if len(problems) > 0 {
 		return RiseRecord{}, csvProblems(problems)
@@ -98,6 +115,41 @@ func ReadRiseCSV(r io.Reader, name string) (RiseRecord, error) {
 	return rec, nil
 }
 
+// bomless drops a leading UTF-8 byte-order mark, which spreadsheets write
+// and encoding/csv would take as part of the first field.
+func bomless(r io.Reader) io.Reader {
+	br := bufio.NewReader(r)
+	if b, err := br.Peek(3); err == nil && string(b) == "\ufeff" {
+		br.Discard(3)
+	}
+	return br
+}
+
+// riseHeader checks the header fields and returns the unit they name, if any.
+func riseHeader(f []string) (calib.Unit, error) {
+	h := make([]string, len(f))
+	for i, v := range f {
+		h[i] = strings.TrimSpace(v)
+	}
+	text := strings.Join(h, ",")
+	bad := fmt.Errorf("header is %q, want %q (with --unit) or one naming the unit, as %q", text, RiseCSVHeader, "time_s,pressure_mbar")
+	if len(h) != 2 || !strings.EqualFold(h[0], "time_s") {
+		return calib.Unit{}, bad
+	}
+	col := strings.ToLower(h[1])
+	switch {
+	case col == "pressure":
+		return calib.Unit{}, nil
+	case strings.HasPrefix(col, "pressure_"):
+		u, err := calib.ParseUnit(h[1][len("pressure_"):], calib.Pressure)
+		if err != nil {
+			return calib.Unit{}, fmt.Errorf("header column %q: %w", h[1], err)
+		}
+		return u, nil
+	}
+	return calib.Unit{}, bad
+}
+
 func csvProblems(p []string) error {
 	if len(p) > maxCSVProblems {
 		p = append(p[:maxCSVProblems], fmt.Sprintf("... and %d more bad lines", len(p)-maxCSVProblems))
@@ -105,9 +157,9 @@ func csvProblems(p []string) error {
 	return errors.New(strings.Join(p, "\n"))
 }
 
-// parseRiseLine parses "time,pressure", returning the pressure's text too.
-func parseRiseLine(text string) (t, p float64, ps string, err error) {
-	f := strings.Split(text, ",")
+// parseRiseFields parses one "time,pressure" row, returning the
+// pressure's text too.
+func parseRiseFields(f []string) (t, p float64, ps string, err error) {
 	if len(f) != 2 {
 		return 0, 0, "", fmt.Errorf("%d fields, want 2 separated by a comma (time_s,pressure)", len(f))
 	}

@@ -99,3 +99,33 @@ func TestReadingSteps(t *testing.T) {
 		t.Error("detectStep of continuous values found a step")
 	}
 }
+
+// A spreadsheet's export: quoted fields, CRLF, a byte-order mark and the
+// unit in the header. The unit comes back so the caller need not guess it.
+func TestReadRiseCSVSpreadsheetExport(t *testing.T) {
+	in := "\ufeff\"time_s\",\"pressure_mbar\"\r\n\"0\",\"1.20E-03\"\r\n\"1.5\",\"1.25E-03\"\r\n\"3\",\"1.30E-03\"\r\n"
+	rec, err := ReadRiseCSV(strings.NewReader(in), "export.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := rec.Pressure, []float64{1.2e-3, 1.25e-3, 1.3e-3}; !equalFloats(got, want) {
+		t.Errorf("pressures %v, want %v", got, want)
+	}
+	// 1 mbar = 100 Pa (NIST SP 811, Appendix B.8: bar = 1e5 Pa).
+	if rec.Unit.Name != "mbar" || rec.Unit.ToSI(1) != 100 {
+		t.Errorf("unit %q (1 = %g Pa), want mbar (100 Pa)", rec.Unit.Name, rec.Unit.ToSI(1))
+	}
+	plain, err := ReadRiseCSV(strings.NewReader("time_s,pressure\n0,1\n1,2\n"), "plain.csv")
+	if err != nil || plain.Unit.Name != "" {
+		t.Errorf("header without a unit: unit %q, err %v; want none", plain.Unit.Name, err)
+	}
+	for _, c := range []struct{ in, want string }{
+		{"time_s,pressure_mbr\n0,1\n", `r.csv:1: header column "pressure_mbr": unknown pressure unit "mbr"`},
+		{"time_s,pressure_L\n0,1\n", `r.csv:1: header column "pressure_L"`},
+		{"time_s,pressure\n\"0,1\n", `r.csv:2:`},
+	} {
+		if _, err := ReadRiseCSV(strings.NewReader(c.in), "r.csv"); err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%q: error %v, want %q", c.in, err, c.want)
+		}
+	}
+}

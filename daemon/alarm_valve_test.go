@@ -166,6 +166,21 @@ func startIsolationDaemon(t *testing.T, p *plc, valve, schedule string) (*Daemon
 	}
 }
 
+// waitSwitch waits (at most one simulated hour) until the valve-closed
+// switch has been read as want. A fixed simulated wait is not enough: the
+// fast clock runs on wall time, and on a loaded machine 10 s of it (8 ms)
+// can pass before the first Modbus exchange is done.
+func waitSwitch(t *testing.T, d *Daemon, clock *sim.Clock, want int) {
+	t.Helper()
+	st, why := d.switchState("valve-closed")
+	for end := clock.Now().Add(time.Hour); st != want && clock.Now().Before(end); st, why = d.switchState("valve-closed") {
+		<-clock.After(2 * time.Second)
+	}
+	if st != want {
+		t.Fatalf("valve-closed after a simulated hour: %d (%s), want %d", st, why, want)
+	}
+}
+
 // waitHoldTest follows hold test id on the daemon's own clock (at most two
 // simulated hours) until it is done or failed.
 func waitHoldTest(t *testing.T, d *Daemon, clock *sim.Clock, id string) HoldTestJSON {
@@ -191,7 +206,7 @@ func TestHoldTestClosesTheValve(t *testing.T) {
 	p := &plc{}
 	d, clock, stop := startValveDaemon(t, p, "")
 	defer stop()
-	<-clock.After(10 * time.Second) // the switch has been read once
+	waitSwitch(t, d, clock, switchOpen)
 	var h HoldTestJSON
 	if code := apiCall(t, d, "POST", "/api/v1/holdtests", tok, HoldTestStartJSON{Gauge: "ion"}, &h); code != http.StatusCreated {
 		t.Fatalf("start: status %d", code)
@@ -223,7 +238,7 @@ func TestHoldTestValveStuck(t *testing.T) {
 	p := &plc{stuck: true}
 	d, clock, stop := startValveDaemon(t, p, "")
 	defer stop()
-	<-clock.After(10 * time.Second) // the switch has been read (2 s interval), so the failure names what it reads
+	waitSwitch(t, d, clock, switchOpen) // so the failure names what it reads
 	var h HoldTestJSON
 	if code := apiCall(t, d, "POST", "/api/v1/holdtests", tok, HoldTestStartJSON{Gauge: "ion"}, &h); code != http.StatusCreated {
 		t.Fatalf("start: status %d", code)
@@ -242,10 +257,15 @@ func TestHoldTestValveStuck(t *testing.T) {
 func TestScheduledHoldTestAndShutdown(t *testing.T) {
 	p := &plc{}
 	d, clock, stop := startValveDaemon(t, p, "      schedule: {every: 10 min}")
-	for end := clock.Now().Add(time.Hour); len(p.log()) == 0 && clock.Now().Before(end); <-clock.After(10 * time.Second) {
-	}
+	// Wait for the stored test, not for the coil: the coil is written
+	// before the test's report is stored, so a listing made as soon as
+	// the coil moves can come back empty.
 	var hs []HoldTestJSON
-	apiCall(t, d, "GET", "/api/v1/holdtests", "", nil, &hs)
+	for end := clock.Now().Add(time.Hour); clock.Now().Before(end); <-clock.After(10 * time.Second) {
+		if apiCall(t, d, "GET", "/api/v1/holdtests", "", nil, &hs); len(hs) > 0 {
+			break
+		}
+	}
 	if len(hs) != 1 || !hs[0].Scheduled || hs[0].Valve != "modbus" {
 		t.Fatalf("after the first scheduled time: %+v, want one scheduled test on the valve", hs)
 	}
@@ -274,7 +294,7 @@ func TestManualHoldTestNeedsTheSwitchClosed(t *testing.T) {
 	p := &plc{}
 	d, clock, stop := startIsolationDaemon(t, p, "", "")
 	defer stop()
-	<-clock.After(10 * time.Second) // the switch has been read (2 s interval)
+	waitSwitch(t, d, clock, switchOpen)
 	if code := apiCall(t, d, "POST", "/api/v1/holdtests", tok, HoldTestStartJSON{Gauge: "ion"}, nil); code != http.StatusConflict {
 		t.Fatalf("start with the valve open: status %d, want 409", code)
 	}
@@ -285,7 +305,7 @@ func TestManualHoldTestNeedsTheSwitchClosed(t *testing.T) {
 	p.closed = true // someone closed the valve by hand
 	p.chamber.Isolate(true)
 	p.mu.Unlock()
-	<-clock.After(10 * time.Second)
+	waitSwitch(t, d, clock, switchClosed)
 	var h HoldTestJSON
 	if code := apiCall(t, d, "POST", "/api/v1/holdtests", tok, HoldTestStartJSON{Gauge: "ion"}, &h); code != http.StatusCreated {
 		t.Fatalf("start with the valve closed: status %d", code)

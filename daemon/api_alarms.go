@@ -157,6 +157,9 @@ func (d *Daemon) apiAlarmAction(w http.ResponseWriter, r *http.Request) {
 	case errors.Is(err, alerts.ErrUnknownAlarm):
 		apiError(w, http.StatusNotFound, err.Error())
 		return
+	case errors.Is(err, alerts.ErrShelfLimit):
+		apiError(w, http.StatusBadRequest, err.Error())
+		return
 	case errors.Is(err, alerts.ErrNoChange), err != nil && ev.Kind == "":
 		apiError(w, http.StatusConflict, err.Error())
 		return
@@ -174,7 +177,8 @@ func (d *Daemon) apiAlarmAction(w http.ResponseWriter, r *http.Request) {
 }
 
 // shelveUntil reads a shelving expiry: "for" a duration, "until" a time,
-// or neither (until unshelved).
+// or neither (zero: the engine's default, shelving.default; refused for a
+// critical alarm).
 func shelveUntil(b AlarmActionJSON, now time.Time) (time.Time, error) {
 	switch {
 	case b.For != "" && b.Until != "":

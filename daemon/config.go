@@ -7,15 +7,16 @@ import (
 // Config is one holdfast configuration file, decoded. Quantities are in SI
 // (Pa, m³, m³/s, Pa·m³/s, °C); durations are time.Duration.
 type Config struct {
-	File    string                  `yaml:"-"`
-	Chamber ChamberConfig           `yaml:"chamber"`
-	HTTP    HTTPConfig              `yaml:"http"`
-	Store   StoreConfig             `yaml:"store"`
-	Links   map[string]*LinkConfig  `yaml:"links"`
-	Gauges  map[string]*GaugeConfig `yaml:"gauges"`
-	Alarms  []*AlarmConfig          `yaml:"alarms"`
-	Notify  []*NotifyConfig         `yaml:"notify"`
-	Report  *ReportConfig           `yaml:"report"`
+	File     string                  `yaml:"-"`
+	Chamber  ChamberConfig           `yaml:"chamber"`
+	HTTP     HTTPConfig              `yaml:"http"`
+	Store    StoreConfig             `yaml:"store"`
+	Links    map[string]*LinkConfig  `yaml:"links"`
+	Gauges   map[string]*GaugeConfig `yaml:"gauges"`
+	Alarms   []*AlarmConfig          `yaml:"alarms"`
+	Shelving ShelvingConfig          `yaml:"shelving"`
+	Notify   []*NotifyConfig         `yaml:"notify"`
+	Report   *ReportConfig           `yaml:"report"`
 
 	// Notes are remarks from checking that are not problems (a secret file
 	// not readable on the checking machine), each "LINE: note: ...".

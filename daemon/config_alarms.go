@@ -5,6 +5,7 @@ import (
 	"strconv"
 	"strings"
 
+	"holdfast/alerts"
 	"holdfast/calib"
 )
 
@@ -41,6 +42,26 @@ type AlarmConfig struct {
 	HoldTest  *HoldTestConfig  `yaml:"hold_test"`
 
 	r alarmResolved // SI values, resolved by the checker
+}
+
+// ShelvingConfig bounds how long an alarm may be shelved: a shelf always
+// ends. Default is how long a shelf asked for without an end lasts
+// (critical alarms must be given one); Max is the longest any may last.
+type ShelvingConfig struct {
+	Default Duration `yaml:"default"` // default 8h
+	Max     Duration `yaml:"max"`     // default 24h
+}
+
+// shelving fills the shelving defaults and checks them.
+func (v *checker) shelving(c *ShelvingConfig) {
+	if c.Default == 0 {
+		c.Default = Duration(alerts.DefaultShelfLimits.Default)
+	}
+	if c.Max == 0 {
+		c.Max = Duration(max(alerts.DefaultShelfLimits.Max, c.Default.D()))
+	}
+	v.expect(c.Default > 0, "shelving.default", "must be a positive duration such as 8h, got %s", c.Default.D())
+	v.expect(c.Max >= c.Default, "shelving.max", "must be at least shelving.default (%s), got %s", c.Default.D(), c.Max.D())
 }
 
 // ChatterConfig says when an alarm counts as chattering: Count raises within Window.

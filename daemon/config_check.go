@@ -93,6 +93,7 @@ func check(cfg *Config, prior []Problem) []Problem {
 	for i, a := range cfg.Alarms {
 		v.alarm(fmt.Sprintf("alarms[%d]", i), a, seen, i)
 	}
+	v.shelving(&cfg.Shelving)
 	v.notifiers(cfg)
 	v.report(cfg.Report)
 	slices.SortStableFunc(cfg.Notes, func(a, b string) int { return cmp.Compare(noteLine(a), noteLine(b)) })

@@ -97,7 +97,11 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 	if err := d.buildGauges(); err != nil {
 		return nil, err
 	}
+	for _, g := range d.gauges {
+		g.slack = pollSlack(d.clock)
+	}
 	d.alarms = alerts.NewEngine(d.limits())
+	d.alarms.SetShelfLimits(alerts.ShelfLimits{Default: cfg.Shelving.Default.D(), Max: cfg.Shelving.Max.D()})
 	if d.token, err = readToken(cfg.HTTP.TokenPath()); err != nil {
 		return nil, err
 	}

@@ -3,8 +3,10 @@ package daemon
 import (
 	"crypto/subtle"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"html"
+	"io/fs"
 	"math"
 	"net/http"
 	"os"
@@ -99,11 +101,14 @@ func readToken(path string) (string, error) {
 	}
 	b, err := os.ReadFile(path)
 	if err != nil {
+		if errors.Is(err, fs.ErrNotExist) {
+			return "", fmt.Errorf("http.token_file: %w (make one with: holdfast token new %s)", err, path)
+		}
 		return "", fmt.Errorf("http.token_file: %w", err)
 	}
 	tok := strings.TrimSpace(string(b))
 	if len(tok) < 16 {
-		return "", fmt.Errorf("http.token_file %s: the token must be at least 16 characters (e.g. head -c 24 /dev/urandom | base64 > %s)", path, path)
+		return "", fmt.Errorf("http.token_file %s: the token must be at least 16 characters (make one with: holdfast token new --force %s)", path, path)
 	}
 	return tok, nil
 }

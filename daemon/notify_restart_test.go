@@ -108,11 +108,18 @@ notify:
 	second, lines, _ := startHelper(t, cfgPath, "2")
 	defer kill(t, second)
 	expectLine(t, lines, "notified")
-	for range 2 { // the queued clear, then the new raise: FIFO, so a resent first raise would come before
+	// Wait for the new raise: the queue is FIFO, so the queued clear and
+	// any resent first raise would come before it. (rc.all also holds the
+	// first raise from before the kill: counting two arrivals would stop
+	// on it and the clear, before the new raise came.)
+	for k := ""; k != key(2); {
 		select {
-		case <-rc.all:
+		case k = <-rc.all:
 		case <-time.After(20 * time.Second):
-			t.Fatalf("after restart the receiver has %v", rc.got)
+			rc.mu.Lock()
+			got := fmt.Sprint(rc.got)
+			rc.mu.Unlock()
+			t.Fatalf("after restart the receiver has %s", got)
 		}
 	}
 	rc.mu.Lock()

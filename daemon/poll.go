@@ -49,6 +49,7 @@ type gauge struct {
 	seen     bool // any answer yet
 	up       bool
 	misses   int
+	slack    time.Duration // simulated time a poll may take beyond its timeout (the wall floor on a fast clock); see pollSlack
 }
 
 type gaugeView struct {
@@ -61,7 +62,7 @@ type gaugeView struct {
 func (g *gauge) view(now time.Time) gaugeView {
 	g.mu.Lock()
 	defer g.mu.Unlock()
-	stale := now.Sub(g.last.At) > 3*g.cfg.Interval.D()+g.cfg.Timeout.D()
+	stale := now.Sub(g.last.At) > 3*g.cfg.Interval.D()+g.cfg.Timeout.D()+g.slack
 	return gaugeView{name: g.name, kind: g.cfg.Kind, last: g.last, seen: g.seen, up: g.up, stale: stale}
 }
 
@@ -265,8 +266,32 @@ func failReason(err error) string {
 	}
 }
 
+// simTimeoutFloor is the least wall time a read timeout on a fast
+// simulated clock lasts (or the configured timeout itself, when shorter).
+// At --speed 600 a 2 s timeout is 3.3 ms of wall time, less than a loaded
+// machine may leave a goroutine unscheduled, so without a floor a healthy
+// simulated gauge (or a Modbus server on loopback) reads as not answering.
+// 500 ms is far above scheduling delays and loopback round trips, and
+// short enough that a gauge that really is silent is still seen quickly.
+const simTimeoutFloor = 500 * time.Millisecond
+
+// pollSlack is how much simulated time a poll may take beyond its
+// configured timeout: on a fast simulated clock a timeout lasts at least
+// simTimeoutFloor of wall time (withTimeout), which is speed times longer
+// in simulated time, and a sample is not stale while a poll may still be
+// under way. It is zero on the wall clock.
+func pollSlack(c Clock) time.Duration {
+	fast, ok := c.(interface{ Speed() float64 })
+	if !ok || fast.Speed() <= 1 {
+		return 0
+	}
+	return time.Duration(float64(simTimeoutFloor) * fast.Speed())
+}
+
 // withTimeout is context.WithTimeout on the daemon's clock, so a read
-// timeout is as long in simulated time as it is in the config.
+// timeout is as long in simulated time as it is in the config; on a
+// simulated clock it also lasts at least min(timeout, simTimeoutFloor) of
+// wall time.
 func (d *Daemon) withTimeout(ctx context.Context, timeout time.Duration) (context.Context, context.CancelFunc) {
 	if _, wall := d.clock.(wallClock); wall {
 		return context.WithTimeout(ctx, timeout)
@@ -274,11 +299,20 @@ func (d *Daemon) withTimeout(ctx context.Context, timeout time.Duration) (contex
 	rctx, cancel := context.WithCancelCause(ctx)
 	stop := make(chan struct{})
 	go func() {
-		select {
-		case <-d.clock.After(timeout):
-			cancel(context.DeadlineExceeded)
-		case <-stop:
+		floor := time.NewTimer(min(timeout, simTimeoutFloor))
+		defer floor.Stop()
+		simulated, wall := d.clock.After(timeout), floor.C
+		for simulated != nil || wall != nil {
+			select {
+			case <-simulated:
+				simulated = nil
+			case <-wall:
+				wall = nil
+			case <-stop:
+				return
+			}
 		}
+		cancel(context.DeadlineExceeded)
 	}()
 	return rctx, func() { close(stop); cancel(context.Canceled) }
 }

@@ -26,7 +26,7 @@ func cmdAlarms(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	asJSON := fs.Bool("json", false, "print JSON")
 	by := fs.String("by", "", "who acts, for the alarm history")
 	reason := fs.String("reason", "", "why (shelve, suppress, out-of-service)")
-	dur := fs.String("for", "", "shelve for this long, e.g. 2h")
+	dur := fs.String("for", "", "shelve for this long, e.g. 2h (default and longest: shelving.default, shelving.max in the config; required for a critical alarm)")
 	until := fs.String("until", "", "shelve until this RFC 3339 time")
 	name, err := parseWithName(fs, args, sub != "list" && sub != "history", "alarm")
 	if err != nil {

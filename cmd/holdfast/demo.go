@@ -3,9 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
-	"crypto/rand"
 	_ "embed"
-	"encoding/base64"
 	"errors"
 	"fmt"
 	"io"
@@ -60,10 +58,10 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	}
 	defer cleanup()
 	cfg.Store.Dir, cfg.HTTP.Listen = dir, *listen
-	if cfg.HTTP.TokenFile == "" {
-		if cfg.HTTP.TokenFile, err = demoToken(dir); err != nil {
-			return err
-		}
+	// The demo makes its own token in its data directory with any config,
+	// so a config naming a token file that does not exist here still runs.
+	if cfg.HTTP.TokenFile, err = demoToken(dir); err != nil {
+		return err
 	}
 
 	start := time.Now()
@@ -200,12 +198,8 @@ func demoSummary(w io.Writer, d *daemon.Daemon, dir string, simulated time.Durat
 // directory, so the API's changes (ack an alarm, start a hold test) can be
 // tried with --token-file.
 func demoToken(dir string) (string, error) {
-	b := make([]byte, 24)
-	if _, err := rand.Read(b); err != nil {
-		return "", fmt.Errorf("demo token: %w", err)
-	}
 	path := filepath.Join(dir, "token")
-	if err := os.WriteFile(path, []byte(base64.RawURLEncoding.EncodeToString(b)+"\n"), 0o600); err != nil {
+	if err := writeToken(path, true); err != nil {
 		return "", fmt.Errorf("demo token: %w", err)
 	}
 	return path, nil

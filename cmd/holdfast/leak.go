@@ -24,15 +24,19 @@ least 90 % of it), outgassing-dominated (at most 10 %), mixed, or
 inconclusive (too short: under 10 distinct times or 10 s; within noise; the
 pressure falls; or the fit failed), with the reason.
 
-The CSV has the header line "time_s,pressure", then one time in seconds and
-one pressure in --unit per line; lines starting with # are ignored. Rows may
+The CSV has the header line "time_s,pressure_UNIT" (time_s,pressure_mbar,
+time_s,pressure_Pa, time_s,pressure_Torr), or "time_s,pressure" with the
+unit given by --unit, then one time in seconds and one pressure per line;
+lines starting with # are ignored, and quoted fields (a spreadsheet's
+export) read as CSV does. There is no default unit: a file in mbar read as
+pascals would be 100 times off. Rows may
 be in any order; readings sharing a time are averaged; a start that still
 falls (recorded before the valve closed) is trimmed and reported. The digits
 written set each reading's resolution.
 
   holdfast leak --rise chamber-b.csv --volume 30L --unit mbar
   holdfast leak --rise chamber-b.csv --volume 30L --unit mbar --leak-unit Torr*L/s --reach 1e-1mbar
-  holdfast leak --rise chamber-b.csv --volume 0.03m3 --json
+  holdfast leak --rise chamber-b.csv --volume 0.03m3 --json     # header time_s,pressure_mbar
 
 --json prints one object (rates in Pa·m³/s, pressures in Pa, times in s):
   classification, reason           what the rise shows, and why
@@ -74,9 +78,9 @@ type leakFlags struct {
 func cmdLeak(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("leak", leakSynopsis, stderr)
 	f := &leakFlags{}
-	fs.StringVar(&f.rise, "rise", "", "CSV file of the rise: header time_s,pressure")
+	fs.StringVar(&f.rise, "rise", "", "CSV file of the rise: header time_s,pressure_UNIT (or time_s,pressure with --unit)")
 	fs.StringVar(&f.volume, "volume", "", "isolated volume with a unit: 30L, 0.03m3")
-	fs.StringVar(&f.unit, "unit", "Pa", "pressure unit of the CSV's pressure column")
+	fs.StringVar(&f.unit, "unit", "", "pressure unit of the CSV's pressure column (required unless the header names it)")
 	fs.StringVar(&f.leakUnit, "leak-unit", "mbar*L/s", "throughput unit to print the leak rate in as well")
 	fs.StringVar(&f.reach, "reach", "", "also tell when the fitted rise reaches this pressure, e.g. 1e-1mbar")
 	fs.BoolVar(&f.keepStart, "keep-start", false, "keep a falling start instead of trimming it")
@@ -94,6 +98,9 @@ func cmdLeak(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	}
 	rec, err := readRise(f.rise)
 	if err != nil {
+		return fmt.Errorf("leak: %w", err)
+	}
+	if in.unit, err = riseUnit(f, in.unit, rec.Unit); err != nil {
 		return fmt.Errorf("leak: %w", err)
 	}
 	p := make([]float64, len(rec.Pressure))
@@ -134,8 +141,10 @@ func (f *leakFlags) inputs() (leakInputs, error) {
 	} else if !(in.volume > 0) {
 		errs = append(errs, fmt.Errorf("--volume %s: the isolated volume must be positive", f.volume))
 	}
-	if in.unit, err = calib.ParseUnit(f.unit, calib.Pressure); err != nil {
-		errs = append(errs, fmt.Errorf("--unit: %w", err))
+	if f.unit != "" {
+		if in.unit, err = calib.ParseUnit(f.unit, calib.Pressure); err != nil {
+			errs = append(errs, fmt.Errorf("--unit: %w", err))
+		}
 	}
 	if in.leakUnit, err = calib.ParseUnit(f.leakUnit, calib.Throughput); err != nil {
 		errs = append(errs, fmt.Errorf("--leak-unit: %w", err))
@@ -146,6 +155,20 @@ func (f *leakFlags) inputs() (leakInputs, error) {
 		}
 	}
 	return in, errors.Join(errs...)
+}
+
+// riseUnit is the pressure unit of the file: the header's or --unit's;
+// never a guess. When both are given they must agree.
+func riseUnit(f *leakFlags, flag, header calib.Unit) (calib.Unit, error) {
+	switch {
+	case header.Name == "" && f.unit == "":
+		return calib.Unit{}, fmt.Errorf("%s: which unit are the pressures in? Give --unit (--unit mbar) or name it in the header (time_s,pressure_mbar)", f.rise)
+	case header.Name == "":
+		return flag, nil
+	case f.unit != "" && flag.ToSI(1) != header.ToSI(1):
+		return calib.Unit{}, fmt.Errorf("%s: the header says the pressures are in %s but --unit says %s: drop --unit or fix the header", f.rise, header.Name, flag.Name)
+	}
+	return header, nil
 }
 
 func readRise(path string) (alerts.RiseRecord, error) {

@@ -150,3 +150,44 @@ func TestLeakCommandHelpDocumentsJSON(t *testing.T) {
 		}
 	}
 }
+
+// A file in mbar read without a unit was taken as pascals and every figure
+// came out 100 times off. The unit is now required: from --unit or from the
+// header, and the two must agree. The record is REFERENCES.md §3b's
+// (Q = 6.6667e-4 Pa·m³/s at V = 100 L; 1 mbar = 100 Pa).
+func TestLeakCommandNeedsAUnit(t *testing.T) {
+	if _, _, err := leakRun(t, "--rise", leakLoadlock, "--volume", "100L", "--json"); err == nil ||
+		!strings.Contains(err.Error(), "which unit") || !strings.Contains(err.Error(), "--unit mbar") {
+		t.Errorf("no --unit and a header without one: error %v, want it to ask for the unit", err)
+	}
+	raw, err := os.ReadFile(leakLoadlock)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The same record as a spreadsheet exports it: quoted, CRLF, the unit in the header.
+	var b strings.Builder
+	b.WriteString("\"time_s\",\"pressure_mbar\"\r\n")
+	for _, line := range strings.Split(string(raw), "\n") {
+		if f := strings.Split(strings.TrimSpace(line), ","); len(f) == 2 && !strings.HasPrefix(f[0], "#") && f[0] != "time_s" {
+			fmt.Fprintf(&b, "\"%s\",\"%s\"\r\n", f[0], f[1])
+		}
+	}
+	path := filepath.Join(t.TempDir(), "export.csv")
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out, _, err := leakRun(t, "--rise", path, "--volume", "100L", "--json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var m map[string]any
+	if err := json.Unmarshal([]byte(out), &m); err != nil {
+		t.Fatal(err)
+	}
+	if q, _ := m["leak_rate_pa_m3_per_s"].(float64); math.Abs(q-6.6667e-4)/6.6667e-4 > 0.01 || m["pressure_unit"] != "mbar" {
+		t.Errorf("header in mbar: leak rate %g Pa·m³/s in %v; want 6.6667e-4 (REFERENCES.md §3b) in mbar", q, m["pressure_unit"])
+	}
+	if _, _, err := leakRun(t, "--rise", path, "--volume", "100L", "--unit", "Pa"); err == nil || !strings.Contains(err.Error(), "header says the pressures are in mbar but --unit says Pa") {
+		t.Errorf("header mbar, --unit Pa: error %v, want the disagreement named", err)
+	}
+}

@@ -67,6 +67,7 @@ var commands = map[string]command{
 	"import":    {"load history from a CSV file into a data directory", cmdImport},
 	"db":        {"store file: stats, compact, backup", cmdDB},
 	"report":    {"draw the report of a night: pressures, temperatures, alarms, hold tests", cmdReport},
+	"token":     {"make the bearer token file that guards the daemon's changes", cmdToken},
 }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {

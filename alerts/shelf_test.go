@@ -1,0 +1,62 @@
+package alerts
+
+import (
+	"errors"
+	"strings"
+	"testing"
+	"time"
+)
+
+// savedStore hands Attach a stored state, as after a restart.
+type savedStore struct{ saved []Saved }
+
+func (s *savedStore) Load() ([]Saved, error)        { return s.saved, nil }
+func (s *savedStore) Save([]Saved, []Event) error   { return nil }
+func (s *savedStore) Delivered([]string) error      { return nil }
+func (s *savedStore) Undelivered() ([]Event, error) { return nil, nil }
+
+// A shelf always ends (IEC 62682 / ISA-18.2 treat shelving as temporary,
+// with a time limit: from memory, the standard's text was not at hand).
+// Without an end the default applies; no shelf may pass the maximum; a
+// critical alarm must be given its end.
+func TestShelfAlwaysEnds(t *testing.T) {
+	e := started(t, limitAlarm(0, 0, 0))
+	e.SetShelfLimits(ShelfLimits{Default: 8 * time.Hour, Max: 24 * time.Hour})
+	e.Observe("chamber", pa(12, 0))
+	sh, err := e.Shelve(Action{Alarm: "rough-lost", Reason: "x", At: t0})
+	if err != nil || !sh.Until.Equal(t0.Add(8*time.Hour)) || !strings.Contains(sh.Message, "until") {
+		t.Fatalf("shelve without an end: until %s (%q), %v; want the 8 h default", sh.Until, sh.Message, err)
+	}
+	if evs := e.Tick(t0.Add(8 * time.Hour)); len(evs) != 1 || evs[0].Kind != Unshelved {
+		t.Errorf("after the 8 h default: %v, want unshelved", kinds(evs))
+	}
+	if _, err := e.Shelve(Action{Alarm: "rough-lost", Until: t0.Add(48 * time.Hour), At: t0.Add(9 * time.Hour)}); !errors.Is(err, ErrShelfLimit) {
+		t.Errorf("shelving for 39 h with a 24 h maximum: %v, want ErrShelfLimit", err)
+	}
+
+	crit := limitAlarm(0, 0, 0)
+	crit.Name, crit.Severity = "wall-too-hot", SeverityCritical
+	e = started(t, crit)
+	if _, err := e.Shelve(Action{Alarm: "wall-too-hot", Reason: "x", At: t0}); !errors.Is(err, ErrShelfLimit) || !strings.Contains(err.Error(), "critical") {
+		t.Errorf("shelving a critical alarm without an end: %v, want it refused", err)
+	}
+	if _, err := e.Shelve(Action{Alarm: "wall-too-hot", Until: t0.Add(time.Hour), At: t0}); err != nil {
+		t.Errorf("shelving a critical alarm for 1 h: %v", err)
+	}
+}
+
+// A shelf stored without an end (by an older version) ends at the longest
+// allowed after it began, not never.
+func TestStoredForeverShelfEnds(t *testing.T) {
+	e := NewEngine([]*Alarm{limitAlarm(0, 0, 0)})
+	e.SetShelfLimits(ShelfLimits{Default: time.Hour, Max: 24 * time.Hour})
+	if _, err := e.Attach(&savedStore{saved: []Saved{{Alarm: "rough-lost", Shelved: true, Since: t0, Acked: true}}}); err != nil {
+		t.Fatal(err)
+	}
+	if evs := e.Tick(t0.Add(23 * time.Hour)); len(evs) != 0 {
+		t.Errorf("before 24 h: %v", kinds(evs))
+	}
+	if evs := e.Tick(t0.Add(24 * time.Hour)); len(evs) != 1 || evs[0].Kind != Unshelved {
+		t.Errorf("24 h after a shelf stored without an end: %v, want unshelved", kinds(evs))
+	}
+}
