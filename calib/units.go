@@ -15,7 +15,8 @@ type Dimension uint8
 // The dimensions holdfast knows. Inside the program each is held in one base
 // unit: pressure in Pa, volume in m³, throughput (leak rate, pV flow) in
 // Pa·m³/s, temperature in °C, length in m, density in kg/m³, pumping speed
-// in m³/s and time in s.
+// in m³/s, time in s, voltage in V and resistance in Ω (the raw signals of
+// thermocouples and resistance thermometers).
 //
 // Throughput is pV flow. Its units sccm and slm are standard cm³ (or L) per
 // minute at 0 °C and 101325 Pa, ideal gas: 1 sccm = 101325 Pa × 1 cm³ / 60 s
@@ -31,6 +32,8 @@ const (
 	Density
 	Speed
 	Time
+	Voltage
+	Resistance
 )
 
 // dimensionInfo gives each dimension its name, its base unit and an example
@@ -44,17 +47,20 @@ var dimensionInfo = [...]struct{ name, base, example string }{
 	Density:     {"density", "kg/m3", "870 kg/m3"},
 	Speed:       {"speed", "m3/s", "80 L/s"},
 	Time:        {"time", "s", "30 min"},
+	Voltage:     {"voltage", "V", "4.096 mV"},
+	Resistance:  {"resistance", "ohm", "138.51 ohm"},
 }
 
 // Dimensions lists every dimension in a fixed order.
 func Dimensions() []Dimension {
-	return []Dimension{Pressure, Volume, Throughput, Temperature, Length, Density, Speed, Time}
+	return []Dimension{Pressure, Volume, Throughput, Temperature, Length, Density, Speed, Time, Voltage, Resistance}
 }
 
-func (d Dimension) known() bool { return d >= Pressure && d <= Time }
+func (d Dimension) known() bool { return d >= Pressure && d <= Resistance }
 
 // String returns the dimension's name: "pressure", "volume", "throughput",
-// "temperature", "length", "density", "speed" or "time".
+// "temperature", "length", "density", "speed", "time", "voltage" or
+// "resistance".
 func (d Dimension) String() string {
 	if d.known() {
 		return dimensionInfo[d].name

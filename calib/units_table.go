@@ -103,6 +103,15 @@ var unitTable = []unitDef{
 	{name: "h", symbol: "h", dim: Time, num: 3600, den: 1, aliases: []string{"hr", "hour", "hours"}},
 	{name: "d", symbol: "d", dim: Time, num: 86400, den: 1, aliases: []string{"day", "days"},
 		note: "24 h"},
+
+	// voltage, base V: a thermocouple's EMF as a meter or DAQ reports it
+	{name: "V", symbol: "V", dim: Voltage, num: 1, den: 1, aliases: []string{"volt", "volts"}},
+	{name: "mV", symbol: "mV", dim: Voltage, num: 1, den: 1e3, aliases: []string{"millivolt", "millivolts"}},
+	{name: "uV", symbol: "µV", dim: Voltage, num: 1, den: 1e6, aliases: []string{"microvolt", "microvolts"}},
+
+	// resistance, base Ω: a resistance thermometer's element
+	{name: "ohm", symbol: "Ω", dim: Resistance, num: 1, den: 1, aliases: []string{"Ω", "Ω", "Ohm", "ohms"}},
+	{name: "kohm", symbol: "kΩ", dim: Resistance, num: 1e3, den: 1, aliases: []string{"kΩ", "kΩ", "kOhm"}},
 }
 
 // refusedUnits are names people write that holdfast will not take, with the

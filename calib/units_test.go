@@ -326,7 +326,7 @@ func TestFormat(t *testing.T) {
 }
 
 func TestDimensionString(t *testing.T) {
-	want := []string{"pressure", "volume", "throughput", "temperature", "length", "density", "speed", "time"}
+	want := []string{"pressure", "volume", "throughput", "temperature", "length", "density", "speed", "time", "voltage", "resistance"}
 	for i, d := range Dimensions() {
 		if d.String() != want[i] {
 			t.Errorf("Dimension %d String = %q, want %q", d, d.String(), want[i])

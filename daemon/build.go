@@ -124,6 +124,11 @@ func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, erro
 		}
 		g.drv = in
 		g.transfer = in.Transfer() // the instrument's own curve, as its maker ships it
+		if gc.Probe != nil {       // a thermocouple's EMF or an RTD's resistance: the config's conversion
+			if g.transfer, err = probeTransfer(gc.Probe); err != nil {
+				return nil, err
+			}
+		}
 	case "ascii", "scpi", "modbus":
 		if gc.From != "" {
 			break // fed by its source's exchange; see linkFeeds
@@ -257,7 +262,19 @@ func SimChamber(cfg *Config, link string, now func() time.Time) (*sim.Chamber, m
 func simInstrument(name string, gc *GaugeConfig) sim.InstrumentConfig {
 	return sim.InstrumentConfig{
 		Name: name, Kind: gc.Instrument, Digits: gc.Digits, FullScale: float64(gc.FullScale),
-		Where: gc.Where, Protect: float64(gc.Protect),
+		Where: gc.Where, Protect: float64(gc.Protect), Probe: simProbe(gc.Probe),
 		Timeout: time.Hour, // a silent instrument waits for the daemon's own read timeout
 	}
+}
+
+// simProbe is what a simulated temperature instrument reports: "" for °C,
+// a thermocouple type letter for its EMF in mV, pt100 or pt1000 for ohms.
+func simProbe(p *ProbeConfig) string {
+	switch {
+	case p == nil:
+		return ""
+	case p.Thermocouple != "":
+		return p.Thermocouple
+	}
+	return p.RTD
 }

@@ -151,10 +151,11 @@ type GaugeConfig struct {
 	From       string             `yaml:"from"`     // take the reading from this gauge's exchange (one query, several gauges)
 	Modbus     *ModbusGaugeConfig `yaml:"modbus"`
 	Transfer   *TransferConfig    `yaml:"transfer"` // analogue output in volts -> pressure
+	Probe      *ProbeConfig       `yaml:"probe"`    // temperature gauges: thermocouple EMF or RTD resistance -> °C
 	RawUnit    string             `yaml:"raw_unit"` // the unit the instrument prints its value in; default SI
 
 	// Simulated instruments (driver: sim).
-	Instrument string   `yaml:"instrument"` // pirani | cdg | ion | thermocouple
+	Instrument string   `yaml:"instrument"` // pirani | cdg | ion | thermocouple | rtd
 	FullScale  Pressure `yaml:"full_scale"` // cdg
 	Digits     int      `yaml:"digits"`     // significant digits the instrument prints
 	Where      string   `yaml:"where"`      // thermocouple: wall | ambient

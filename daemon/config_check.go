@@ -58,7 +58,7 @@ func (v *checker) expect(ok bool, path, format string, a ...any) {
 
 var (
 	gaugeKinds     = []string{"pressure", "temperature", "state"}
-	simInstruments = []string{"pirani", "cdg", "ion", "thermocouple"}
+	simInstruments = []string{"pirani", "cdg", "ion", "thermocouple", "rtd"}
 )
 
 // check fills defaults and reports every semantic problem.
@@ -251,12 +251,14 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 	if g.Driver == "sim" {
 		v.expect(slices.Contains(simInstruments, g.Instrument), path+".instrument", "want one of %s, got %q", strings.Join(simInstruments, ", "), g.Instrument)
 		v.expect(g.Instrument != "cdg" || g.FullScale > 0, path+".full_scale", "a capacitance gauge needs its full scale, e.g. full_scale: 1000 Pa")
-		wantKind := map[string]string{"pirani": "pressure", "cdg": "pressure", "ion": "pressure", "thermocouple": "temperature"}[g.Instrument]
+		wantKind := map[string]string{"pirani": "pressure", "cdg": "pressure", "ion": "pressure", "thermocouple": "temperature", "rtd": "temperature"}[g.Instrument]
 		v.expect(wantKind == "" || g.Kind == wantKind, path+".kind", "a %s measures %s, got kind %q", g.Instrument, wantKind, g.Kind)
 		v.expect(g.Digits >= 0 && g.Digits <= 15, path+".digits", "want 1 to 15 significant digits, got %d", g.Digits)
 	}
+	v.expect(g.Driver != "sim" || g.Instrument != "rtd" || g.Probe != nil, path+".probe", "a simulated rtd reports ohms; say which element, e.g. probe: {rtd: pt100}")
 	v.calibration(name, g)
 	v.ambient(path, g)
+	v.probe(path, g)
 }
 
 func gaugeDim(kind string) calib.Dimension {

@@ -192,6 +192,9 @@ func (e fieldErrors) Error() string { return strings.Join(e, "\n") }
 // function, a unit conversion (raw_unit), or the identity.
 func gaugeTransfer(g *GaugeConfig) (calib.Transfer, error) {
 	dim := gaugeDim(g.Kind)
+	if g.Probe != nil {
+		return probeTransfer(g.Probe)
+	}
 	if g.Transfer != nil {
 		return analogue(g.Transfer)
 	}

@@ -48,26 +48,27 @@ type command struct {
 
 // commands is the complete list of subcommands.
 var commands = map[string]command{
-	"demo":      {"run the daemon on the built-in simulated chamber", cmdDemo},
-	"run":       {"run the daemon with a config file", cmdRun},
-	"check":     {"check a config file and report every problem", cmdCheck},
-	"convert":   {"convert a quantity between units", cmdConvert},
-	"version":   {"print the version", cmdVersion},
-	"leak":      {"analyse a recorded pressure rise: leak rate, outgassing", cmdLeak},
-	"alarms":    {"list the running daemon's alarms; ack, shelve, unshelve them", cmdAlarms},
-	"holdtest":  {"start, list and show hold tests (pressure-rise tests) on the running daemon", cmdHoldTest},
-	"column":    {"pressure of a liquid column (p = rho*g*h)", cmdColumn},
-	"calib":     {"fit, evaluate and manage gauge calibrations", cmdCalib},
-	"reprocess": {"recompute stored values from raw with another calibration", cmdReprocess},
-	"ports":     {"list serial ports", cmdPorts},
-	"probe":     {"run one gauge's exchange and show the bytes", cmdProbe},
-	"simulate":  {"serve the simulated chamber's instruments on a pseudo-terminal", cmdSimulate},
-	"query":     {"show stored samples of gauges, reduced for reading or plotting", cmdQuery},
-	"export":    {"write stored samples as CSV, JSON lines or OpenMetrics", cmdExport},
-	"import":    {"load history from a CSV file into a data directory", cmdImport},
-	"db":        {"store file: stats, compact, backup", cmdDB},
-	"report":    {"draw the report of a night: pressures, temperatures, alarms, hold tests", cmdReport},
-	"token":     {"make the bearer token file that guards the daemon's changes", cmdToken},
+	"demo":        {"run the daemon on the built-in simulated chamber", cmdDemo},
+	"run":         {"run the daemon with a config file", cmdRun},
+	"check":       {"check a config file and report every problem", cmdCheck},
+	"convert":     {"convert a quantity between units", cmdConvert},
+	"version":     {"print the version", cmdVersion},
+	"leak":        {"analyse a recorded pressure rise: leak rate, outgassing", cmdLeak},
+	"alarms":      {"list the running daemon's alarms; ack, shelve, unshelve them", cmdAlarms},
+	"holdtest":    {"start, list and show hold tests (pressure-rise tests) on the running daemon", cmdHoldTest},
+	"column":      {"pressure of a liquid column (p = rho*g*h)", cmdColumn},
+	"calib":       {"fit, evaluate and manage gauge calibrations", cmdCalib},
+	"reprocess":   {"recompute stored values from raw with another calibration", cmdReprocess},
+	"ports":       {"list serial ports", cmdPorts},
+	"probe":       {"run one gauge's exchange and show the bytes", cmdProbe},
+	"simulate":    {"serve the simulated chamber's instruments on a pseudo-terminal", cmdSimulate},
+	"query":       {"show stored samples of gauges, reduced for reading or plotting", cmdQuery},
+	"export":      {"write stored samples as CSV, JSON lines or OpenMetrics", cmdExport},
+	"import":      {"load history from a CSV file into a data directory", cmdImport},
+	"db":          {"store file: stats, compact, backup", cmdDB},
+	"report":      {"draw the report of a night: pressures, temperatures, alarms, hold tests", cmdReport},
+	"temperature": {"convert a thermocouple EMF or an RTD resistance to °C, or back", cmdTemperature},
+	"token":       {"make the bearer token file that guards the daemon's changes", cmdToken},
 }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
@@ -95,7 +96,7 @@ func usage(w io.Writer) {
 	}
 	slices.Sort(names)
 	for _, n := range names {
-		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
+		fmt.Fprintf(w, "  %-11s %s\n", n, commands[n].summary)
 	}
 	fmt.Fprintln(w, "\nRun 'holdfast <command> --help' for a command's flags.")
 }

@@ -128,7 +128,7 @@ func TestInstrumentConfigProblems(t *testing.T) {
 	}
 	for _, want := range []string{
 		"name: must not be empty", "digits: must be between 1 and 17", "noise: ", "timeout: ",
-		`where: only thermocouple instruments take where (this one is "cdg")`,
+		`where: only thermocouple and rtd instruments take where (this one is "cdg")`,
 		"protect: only ion instruments take protect", "full_scale: a cdg needs its full scale",
 	} {
 		if !strings.Contains(err.Error(), want) {
@@ -136,7 +136,7 @@ func TestInstrumentConfigProblems(t *testing.T) {
 		}
 	}
 	if _, err := ch.Instrument(InstrumentConfig{Name: "x", Kind: "manometer"}); err == nil ||
-		!strings.Contains(err.Error(), `kind: unknown instrument kind "manometer" (known: pirani, cdg, ion, thermocouple)`) {
+		!strings.Contains(err.Error(), `kind: unknown instrument kind "manometer" (known: pirani, cdg, ion, thermocouple, rtd)`) {
 		t.Errorf("unknown kind: %v", err)
 	}
 	mustInstrument(t, ch, InstrumentConfig{Name: "x", Kind: KindIon})

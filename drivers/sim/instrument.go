@@ -21,11 +21,12 @@ const (
 	KindPirani       = "pirani"       // thermal-conductivity gauge; raw = heat-loss signal
 	KindCDG          = "cdg"          // capacitance diaphragm gauge; raw = output volts, 0–10 V over full scale
 	KindIon          = "ion"          // ionisation gauge; raw = indicated pressure, Pa
-	KindThermocouple = "thermocouple" // raw = °C of the wall or the room
+	KindThermocouple = "thermocouple" // raw = °C of the wall or the room; with Probe, its EMF in mV
+	KindRTD          = "rtd"          // resistance thermometer; raw = its resistance in Ω
 )
 
 // Kinds lists the known instrument kinds.
-func Kinds() []string { return []string{KindPirani, KindCDG, KindIon, KindThermocouple} }
+func Kinds() []string { return []string{KindPirani, KindCDG, KindIon, KindThermocouple, KindRTD} }
 
 // defaultTimeout is how long a silent instrument makes Read wait, in wall
 // time: long enough to be seen, short enough for a demo at high speed.
@@ -44,9 +45,15 @@ type InstrumentConfig struct {
 	Noise     float64        // noise override; 0 means the kind's default (see below)
 	FullScale float64        // cdg only, Pa; required
 	HeatLoss  calib.HeatLoss // pirani only; zero means DefaultHeatLoss()
-	Where     string         // thermocouple only: "wall" (default) or "ambient"
-	Protect   float64        // ion only, Pa: emission switches off above this; 0 means 1e-1
-	Timeout   time.Duration  // how long a silent instrument makes Read wait (wall time); 0 means 200 ms
+	Where     string         // thermocouple and rtd: "wall" (default) or "ambient"
+	// Probe makes a temperature instrument report its sensor's raw signal:
+	// a thermocouple type letter ("K") for the EMF in mV with the reference
+	// junction at the room's temperature (the instrument's terminals), or
+	// for an rtd the element, pt100 (default) or pt1000, for its resistance
+	// in Ω. Empty, a thermocouple reports °C.
+	Probe   string
+	Protect float64       // ion only, Pa: emission switches off above this; 0 means 1e-1
+	Timeout time.Duration // how long a silent instrument makes Read wait (wall time); 0 means 200 ms
 }
 
 // An Instrument reads one quantity of a Chamber the way a real instrument
@@ -59,6 +66,7 @@ type Instrument struct {
 	timeout time.Duration
 	sensor  sensor
 	xfer    calib.Transfer
+	probe   string // a temperature instrument's raw signal; see InstrumentConfig.Probe
 
 	mu  sync.Mutex // guards rng
 	rng *rand.Rand
@@ -73,6 +81,10 @@ func (ch *Chamber) Instrument(ic InstrumentConfig) (*Instrument, error) {
 	if err != nil {
 		return nil, err
 	}
+	if ti, ok := xfer.(calib.ThermocoupleInput); ok {
+		ti.ColdJunction = ch.cfg.AmbientC // the instrument's terminals sit in the room
+		xfer = ti
+	}
 	ch.mu.Lock()
 	defer ch.mu.Unlock()
 	if slices.Contains(ch.names, ic.Name) {
@@ -83,7 +95,7 @@ func (ch *Chamber) Instrument(ic InstrumentConfig) (*Instrument, error) {
 	h.Write([]byte(ic.Name))
 	in := &Instrument{
 		ch: ch, name: ic.Name, kind: ic.Kind, digits: ic.Digits, timeout: ic.Timeout,
-		sensor: s, xfer: xfer,
+		sensor: s, xfer: xfer, probe: ic.Probe,
 		rng: rand.New(rand.NewPCG(uint64(ch.cfg.Seed), h.Sum64())),
 	}
 	if in.digits == 0 {
@@ -175,7 +187,8 @@ func newSensor(ic InstrumentConfig) (sensor, calib.Transfer, error) {
 	}
 	only(ic.FullScale != 0, "full_scale", KindCDG)
 	only(ic.HeatLoss != (calib.HeatLoss{}), "heat_loss", KindPirani)
-	only(ic.Where != "", "where", KindThermocouple)
+	v.expect(ic.Where == "" || ic.Kind == KindThermocouple || ic.Kind == KindRTD, "where", "only thermocouple and rtd instruments take where (this one is %q)", ic.Kind)
+	v.expect(ic.Probe == "" || ic.Kind == KindThermocouple || ic.Kind == KindRTD, "probe", "only thermocouple and rtd instruments take probe (this one is %q)", ic.Kind)
 	only(ic.Protect != 0, "protect", KindIon)
 	var s sensor
 	var xfer calib.Transfer = calib.Identity{}
@@ -186,8 +199,8 @@ func newSensor(ic InstrumentConfig) (sensor, calib.Transfer, error) {
 		s, xfer = newCDG(ic, &v)
 	case KindIon:
 		s = newIon(ic, &v)
-	case KindThermocouple:
-		s = newThermocouple(ic, &v)
+	case KindThermocouple, KindRTD:
+		s, xfer = newThermocouple(ic, &v)
 	default:
 		v.expect(false, "kind", "unknown instrument kind %q (known: %s)", ic.Kind, strings.Join(Kinds(), ", "))
 	}

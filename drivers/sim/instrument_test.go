@@ -238,3 +238,34 @@ func sigDigits(v float64) int {
 	mant, _, _ := strings.Cut(s, "e")
 	return len(strings.Replace(mant, ".", "", 1))
 }
+
+// A thermocouple with a probe reports E(t_wall) − E(t_room) in mV; an rtd
+// R(t) in Ω. At start the wall is at the room's 22 °C, so the type K EMF
+// is about 0 mV (noise 0.2 K ≈ 8 µV) and the instrument's own transfer,
+// with the room as cold junction, gives back about 22 °C. A Pt100 at 22 °C
+// is 100·(1 + 3.9083e-3·22 − 5.775e-7·484) = 108.5703 Ω (IEC 60751, D).
+func TestProbeOutputs(t *testing.T) {
+	ch, _ := newTestChamber(t, Config{Volume: 0.03, AmbientC: 22, Rough: Pump{Speed: 0.01, Ultimate: 1}})
+	tc, err := ch.Instrument(InstrumentConfig{Name: "tc-k", Kind: KindThermocouple, Probe: "K", Digits: 6, Noise: 1e-9})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rtd, err := ch.Instrument(InstrumentConfig{Name: "pt", Kind: KindRTD, Digits: 7, Noise: 1e-9})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := tc.Read(context.Background())
+	if err != nil || math.Abs(r.Raw) > 1e-6 {
+		t.Errorf("type K EMF at the room's temperature = %g mV, %v; want 0", r.Raw, err)
+	}
+	if c, err := tc.Transfer().Apply(r.Raw); err != nil || math.Abs(c-22) > 1e-3 {
+		t.Errorf("its transfer gives %g °C, %v; want 22", c, err)
+	}
+	r, err = rtd.Read(context.Background())
+	if err != nil || math.Abs(r.Raw-108.5703) > 1e-3 {
+		t.Errorf("Pt100 at 22 °C = %g Ω, %v; want 108.5703", r.Raw, err)
+	}
+	if _, err := ch.Instrument(InstrumentConfig{Name: "bad", Kind: KindIon, Probe: "K"}); err == nil {
+		t.Error("an ion gauge took a probe")
+	}
+}

@@ -126,15 +126,43 @@ func (s ion) measure(st State, r *rand.Rand) (float64, drivers.Status) {
 
 const thermocoupleDefaultNoise = 0.2 // K
 
+// thermocouple is a temperature instrument. It reports °C, or with a
+// probe its sensor's raw signal from calib's reference functions: a
+// thermocouple's EMF E(t) − E(t_room) in mV, its reference junction at the
+// room's temperature, or an RTD's resistance R(t) in Ω (drivers/sim may
+// import calib; DEVELOPERS.md). Beyond the function's range the raw signal
+// is what it would be at the range's end, flagged over- or under-range.
 type thermocouple struct {
 	ambient bool
 	sigma   float64 // K
+	tc      *calib.Thermocouple
+	rtd     *calib.RTD
 }
 
-func newThermocouple(ic InstrumentConfig, v *checker) sensor {
+func newThermocouple(ic InstrumentConfig, v *checker) (sensor, calib.Transfer) {
 	v.expect(ic.Where == "" || ic.Where == "wall" || ic.Where == "ambient", "where",
 		"must be \"wall\" or \"ambient\", got %q", ic.Where)
-	return thermocouple{ambient: ic.Where == "ambient", sigma: or(ic.Noise, thermocoupleDefaultNoise)}
+	s := thermocouple{ambient: ic.Where == "ambient", sigma: or(ic.Noise, thermocoupleDefaultNoise)}
+	var xfer calib.Transfer = calib.Identity{}
+	switch {
+	case ic.Kind == KindRTD:
+		name := ic.Probe
+		if name == "" {
+			name = "pt100"
+		}
+		el, err := calib.PlatinumRTD(name)
+		if err != nil {
+			v.expect(false, "probe", "%v", err)
+		}
+		s.rtd, xfer = &el, calib.RTDInput{RTD: el, OhmsPerUnit: 1}
+	case ic.Probe != "":
+		tc, err := calib.ThermocoupleType(ic.Probe)
+		if err != nil {
+			v.expect(false, "probe", "%v", err)
+		}
+		s.tc, xfer = &tc, calib.ThermocoupleInput{Type: tc, MillivoltsPerUnit: 1} // cold junction: the room, set by Chamber.Instrument
+	}
+	return s, xfer
 }
 
 func (s thermocouple) measure(st State, r *rand.Rand) (float64, drivers.Status) {
@@ -142,7 +170,31 @@ func (s thermocouple) measure(st State, r *rand.Rand) (float64, drivers.Status) 
 	if s.ambient {
 		t = st.AmbientC
 	}
-	return t + s.sigma*r.NormFloat64(), drivers.StatusOK
+	t += s.sigma * r.NormFloat64()
+	switch {
+	case s.rtd != nil:
+		lo, hi := s.rtd.TemperatureRange()
+		v, _ := s.rtd.Resistance(math.Min(math.Max(t, lo), hi))
+		return v, rangeStatus(t, lo, hi)
+	case s.tc != nil:
+		lo, hi := s.tc.TemperatureRange()
+		v, err := s.tc.EMFBetween(math.Min(math.Max(t, lo), hi), st.AmbientC)
+		if err != nil {
+			return math.NaN(), drivers.StatusSensorFault
+		}
+		return v, rangeStatus(t, lo, hi)
+	}
+	return t, drivers.StatusOK
+}
+
+func rangeStatus(t, lo, hi float64) drivers.Status {
+	switch {
+	case t < lo:
+		return drivers.StatusUnderRange
+	case t > hi:
+		return drivers.StatusOverRange
+	}
+	return drivers.StatusOK
 }
 
 // or returns v, or def when v is 0.

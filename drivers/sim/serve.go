@@ -111,7 +111,7 @@ func (s *Server) Channels() []ServedChannel {
 }
 
 func (s *Server) unitOf(in *Instrument) string {
-	if in.kind == KindThermocouple {
+	if in.kind == KindThermocouple || in.kind == KindRTD {
 		return "C"
 	}
 	return s.opts.Unit.String()
@@ -152,8 +152,15 @@ func (s *Server) convert(in *Instrument, r drivers.Reading) float64 {
 	if r.Status == drivers.StatusSensorFault || r.Status == drivers.StatusOff || math.IsNaN(r.Raw) {
 		return math.NaN()
 	}
-	if in.kind == KindThermocouple {
+	if in.kind == KindThermocouple && in.probe == "" {
 		return r.Raw
+	}
+	if in.kind == KindThermocouple || in.kind == KindRTD { // shown in °C, as a meter would
+		c, err := in.xfer.Apply(r.Raw)
+		if err != nil {
+			return math.NaN()
+		}
+		return c
 	}
 	pa, err := in.xfer.Apply(r.Raw)
 	if err != nil {
