@@ -7,12 +7,14 @@ import (
 	"math"
 	"net"
 	"net/http"
+	"net/http/httptest"
 	"net/url"
 	"os"
 	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
+	"sync"
 	"syscall"
 	"testing"
 	"time"
@@ -263,5 +265,72 @@ func TestRemoteWriteReplaysOutage(t *testing.T) {
 				break
 			}
 		}
+	}
+}
+
+// Against a receiver written here: every request carries the bearer token
+// from token_file; a 400 is final (the remote-write specification: a sender
+// must not retry a 4xx other than 429), so its batch is counted as rejected
+// and skipped; a 503 is retried, and the batch it refused is sent again.
+func TestRemoteWriteRefusalsAndToken(t *testing.T) {
+	dir := t.TempDir()
+	tok := filepath.Join(dir, "rw.token")
+	if err := os.WriteFile(tok, []byte("rw-secret-for-tests\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	var mu sync.Mutex
+	var answers []int
+	var badAuth int
+	srv := httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		io.Copy(io.Discard, r.Body)
+		mu.Lock()
+		defer mu.Unlock()
+		if r.Header.Get("Authorization") != "Bearer rw-secret-for-tests" {
+			badAuth++
+		}
+		code := http.StatusNoContent
+		switch len(answers) {
+		case 0:
+			code = http.StatusBadRequest
+		case 1, 2:
+			code = http.StatusServiceUnavailable
+		}
+		answers = append(answers, code)
+		w.WriteHeader(code)
+	}))
+	defer srv.Close()
+	text := strings.NewReplacer("DIR", dir, "URL", srv.URL+"/api/v1/write").Replace(remoteConfig)
+	text = strings.Replace(text, "  labels: {site: north-hall}\n", "  labels: {site: north-hall}\n  token_file: "+tok+"\n", 1)
+	cfg, err := ParseConfig("rw.yaml", []byte(text))
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := New(cfg, Options{Clock: sim.NewClock(time.Now(), 20)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	stop := make(chan struct{})
+	done := make(chan error, 1)
+	go func() {
+		ctx, cancel := contextUntil(stop)
+		defer cancel()
+		done <- d.Run(ctx)
+	}()
+	waitFor(t, 10*time.Second, "accepted sends after the refusals", func() bool {
+		return metricValue(t, d.Addr(), "holdfast_remote_write_samples_total") > 0
+	})
+	rejected := metricValue(t, d.Addr(), "holdfast_remote_write_samples_rejected_total")
+	failures := metricValue(t, d.Addr(), "holdfast_remote_write_failures_total")
+	close(stop)
+	if err := <-done; err != nil {
+		t.Fatalf("Run: %v", err)
+	}
+	mu.Lock()
+	defer mu.Unlock()
+	if badAuth > 0 {
+		t.Errorf("%d of %d requests lacked the bearer token", badAuth, len(answers))
+	}
+	if rejected < 1 || failures != 2 {
+		t.Errorf("rejected %g samples, %g failures; want the first batch rejected and the two 503s counted", rejected, failures)
 	}
 }
