@@ -18,6 +18,8 @@ type Config struct {
 	Notify   []*NotifyConfig         `yaml:"notify"`
 	Report   *ReportConfig           `yaml:"report"`
 
+	RemoteWrite *RemoteWriteConfig `yaml:"remote_write"` // push stored samples to a receiver (config_remote.go)
+
 	// Notes are remarks from checking that are not problems (a secret file
 	// not readable on the checking machine), each "LINE: note: ...".
 	Notes []string `yaml:"-"`

@@ -96,6 +96,7 @@ func check(cfg *Config, prior []Problem) []Problem {
 	v.shelving(&cfg.Shelving)
 	v.notifiers(cfg)
 	v.report(cfg.Report)
+	v.remoteWrite(cfg.RemoteWrite)
 	slices.SortStableFunc(cfg.Notes, func(a, b string) int { return cmp.Compare(noteLine(a), noteLine(b)) })
 	return v.probs
 }

@@ -69,6 +69,8 @@ type Daemon struct {
 	retry      []alerts.Event             // transitions whose queueing for notification failed
 	trace      func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
 
+	rw *remoteWriter // nil without remote_write
+
 	flushMu  sync.Mutex
 	flushErr error
 }
@@ -120,6 +122,9 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 		}
 	}
 	d.met = newMetrics(d)
+	if d.rw, err = newRemoteWriter(d); err != nil {
+		return nil, err
+	}
 	if d.ln, err = net.Listen("tcp", cfg.HTTP.Listen); err != nil {
 		return nil, fmt.Errorf("http listen: %w", err)
 	}
@@ -171,6 +176,7 @@ func (d *Daemon) Run(parent context.Context) error {
 	wg.Go(func() { d.retentionLoop(ctx) })
 	wg.Go(func() { d.systemdLoop(ctx) })
 	wg.Go(func() { d.reportLoop(ctx) })
+	wg.Go(func() { d.rw.run(ctx) })
 	d.log.Info("daemon started", "chamber", d.cfg.Chamber.Name, "gauges", len(d.gauges), "listen", d.Addr())
 	<-ctx.Done()
 	shut, done := context.WithTimeout(context.Background(), 3*time.Second)
