@@ -3,6 +3,7 @@ package daemon
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"log/slog"
 	"math"
@@ -90,6 +91,13 @@ func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, schedule
 	}
 	if p := d.alarmsDown.Load(); p != nil {
 		return HoldTestJSON{}, fmt.Errorf("alarms are not running (their stored state did not load: %v); no hold test can be judged", *p)
+	}
+	// Before the alarm loop has restored its state and ended the tests a
+	// crash interrupted, a new test would race that clean-up: wait a little.
+	select {
+	case <-d.alarmsReady:
+	case <-time.After(5 * time.Second):
+		return HoldTestJSON{}, errors.New("the alarm engine is still starting; try again in a few seconds")
 	}
 	if id := d.alarms.RunningHoldTest(); id != "" {
 		return HoldTestJSON{}, fmt.Errorf("hold test %s is still running; wait for it to finish", id)

@@ -43,6 +43,7 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 		d.deliver(ev)
 	}
 	d.abortHoldTests(log, st, "the daemon stopped during the test (a crash, a kill or a power cut); its record is incomplete", false)
+	close(d.alarmsReady)
 	scheds := d.holdSchedules(d.clock.Now())
 	var lastHealth time.Time
 	for {

@@ -1,10 +1,7 @@
 package daemon
 
 import (
-	"fmt"
 	"net/url"
-	"os"
-	"path/filepath"
 	"regexp"
 	"strings"
 	"time"
@@ -93,28 +90,12 @@ func (v *checker) remoteWrite(r *RemoteWriteConfig) {
 	}
 }
 
-// remoteToken reads the bearer token from token_file or a systemd credential.
+// remoteToken reads the bearer token from token_file or a systemd
+// credential, with the same checks as every other secret.
 func (v *checker) remoteToken(r *RemoteWriteConfig) {
-	const p = "remote_write"
-	switch {
-	case r.TokenFile != "" && r.Credential != "":
-		v.problem(p+".credential", "give token_file or credential, not both")
-	case r.TokenFile != "":
-		r.token = string(v.secret(p+".token_file", r.TokenFile, true))
-	case r.Credential != "":
-		if r.Credential != filepath.Base(r.Credential) || strings.HasPrefix(r.Credential, ".") {
-			v.problem(p+".credential", "want the credential's name as in LoadCredential=NAME:/etc/holdfast/NAME, not a path; got %q", r.Credential)
-			return
-		}
-		dir := os.Getenv("CREDENTIALS_DIRECTORY")
-		if dir == "" {
-			if v.secretsOptional() {
-				v.cfg.Notes = append(v.cfg.Notes, fmt.Sprintf("%d: note: %s.credential: $CREDENTIALS_DIRECTORY is not set here; the service needs LoadCredential=%s:...", v.line(p+".credential"), p, r.Credential))
-			} else {
-				v.problem(p+".credential", "$CREDENTIALS_DIRECTORY is not set: run under systemd with LoadCredential=%s:/etc/holdfast/%s, or use token_file", r.Credential, r.Credential)
-			}
-			return
-		}
-		r.token = string(v.secret(p+".credential", filepath.Join(dir, r.Credential), true))
+	if r.TokenFile == "" && r.Credential == "" {
+		return // the receiver needs no token
 	}
+	r.token = string(v.secret(secretRef{path: "remote_write", fileKey: "token_file", credKey: "credential",
+		file: r.TokenFile, credential: r.Credential, required: true}))
 }

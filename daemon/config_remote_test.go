@@ -26,7 +26,7 @@ func TestRemoteWriteConfigProblems(t *testing.T) {
 		"rw.yaml:" + itoa(base+1) + ": remote_write.url: want the receiver's http:// or https:// write URL",
 		"rw.yaml:" + itoa(base+2) + ": remote_write.every: want at least 100ms",
 		"rw.yaml:" + itoa(base+3) + ": remote_write.batch: want 1 to 100000 samples per request, got -5",
-		"rw.yaml:" + itoa(base+5) + ": remote_write.credential: give token_file or credential, not both",
+		"rw.yaml:" + itoa(base) + ": remote_write: give token_file or credential, not both",
 		"remote_write.labels.gauge: \"gauge\" is set by holdfast",
 		"remote_write.labels.9lives: \"9lives\" is not a label name",
 		"remote_write.labels.site: empty value",

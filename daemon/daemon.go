@@ -50,24 +50,25 @@ type Options struct {
 
 // A Daemon polls every gauge of one config and serves what it reads.
 type Daemon struct {
-	cfg        *Config
-	log        *slog.Logger
-	clock      Clock
-	emit       func(Event)
-	store      *store.DB
-	links      []*link
-	gauges     []*gauge // sorted by name
-	alarms     *alerts.Engine
-	met        *metrics
-	ln         net.Listener
-	token      string // bearer token for changes; empty refuses them
-	progress   progress
-	ntfMu      sync.Mutex
-	ntf        *notifierSet          // nil when no notifiers are configured
-	alarmsDown atomic.Pointer[error] // set when the alarm state could not be loaded
-	retryMu    sync.Mutex
-	retry      []alerts.Event             // transitions whose queueing for notification failed
-	trace      func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
+	cfg         *Config
+	log         *slog.Logger
+	clock       Clock
+	emit        func(Event)
+	store       *store.DB
+	links       []*link
+	gauges      []*gauge // sorted by name
+	alarms      *alerts.Engine
+	met         *metrics
+	ln          net.Listener
+	token       string // bearer token for changes; empty refuses them
+	progress    progress
+	ntfMu       sync.Mutex
+	ntf         *notifierSet          // nil when no notifiers are configured
+	alarmsDown  atomic.Pointer[error] // set when the alarm state could not be loaded
+	alarmsReady chan struct{}         // closed once the alarm loop has restored its state
+	retryMu     sync.Mutex
+	retry       []alerts.Event             // transitions whose queueing for notification failed
+	trace       func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
 
 	rw *remoteWriter // nil without remote_write
 
@@ -81,7 +82,7 @@ func StorePath(dir string) string { return filepath.Join(dir, "holdfast.db") }
 // New builds a daemon: it opens the store and the links' drivers and binds
 // the HTTP listener, so that every startup problem is reported before Run.
 func New(cfg *Config, opt Options) (_ *Daemon, err error) {
-	d := &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent}
+	d := &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, alarmsReady: make(chan struct{})}
 	if d.log == nil {
 		d.log = slog.New(slog.DiscardHandler)
 	}
