@@ -138,7 +138,7 @@ func startIsolationDaemon(t *testing.T, p *plc, valve, schedule string) (*Daemon
 	if err != nil {
 		t.Fatal(err)
 	}
-	clock := sim.NewClock(time.Now(), 1200)
+	clock := sim.NewClock(time.Now(), 400)
 	d, err := New(cfg, Options{Clock: clock})
 	if err != nil {
 		t.Fatal(err)
