@@ -112,10 +112,10 @@ func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
 			continue
 		}
 		ch <- prometheus.MustNewConstMetric(descLast, prometheus.GaugeValue, float64(v.last.At.UnixNano())/1e9, v.name)
-		for q := calib.QualityOK; q <= calib.QualityOff; q++ {
+		for q := calib.QualityOK; q <= calib.QualityLast; q++ {
 			ch <- prometheus.MustNewConstMetric(descQuality, prometheus.GaugeValue, b2f(v.last.Quality == q), v.name, q.String())
 		}
-		if v.last.Quality != calib.QualityOK || v.stale || !v.up {
+		if !v.last.Quality.HasValue() || v.stale || !v.up {
 			continue
 		}
 		desc := map[string]*prometheus.Desc{"pressure": descPressure, "temperature": descTemperature, "state": descState}[v.kind]
