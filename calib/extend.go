@@ -41,6 +41,9 @@ func (e Extended) Apply(raw float64) (float64, error) {
 			return v, fmt.Errorf("%s, read on %s: %w", trimRange(err), e.name(src), ErrExtrapolated)
 		}
 	}
+	if _, xerr := e.Cal.Extend(raw); xerr != nil {
+		return math.NaN(), fmt.Errorf("%w (%s)", err, trimRange(xerr))
+	}
 	return math.NaN(), err
 }
 
