@@ -41,7 +41,7 @@ func (g *gauge) liveState() *gaugeLive {
 // and outside it the model extended or the instrument's own curve, with
 // quality extrapolated (calib.Extended), so a calibration never blanks a
 // gauge that its instrument can still read.
-func (g *gauge) extended(c *calib.Calibration) calib.Transfer {
+func (g *gauge) extended(c *calib.Calibration) calib.Extended {
 	return calib.Extended{Cal: c, Instrument: g.liveState().builtin}
 }
 
