@@ -50,7 +50,7 @@ func newMetrics(d *Daemon) *metrics {
 
 var (
 	descPressure = prometheus.NewDesc("holdfast_pressure_pascals",
-		"Last valid pressure read by the poller, after calibration. Absent while the gauge has no valid reading.",
+		"Last valid pressure read by the poller, after calibration; also exported when extrapolated beyond a calibration's fitted range (see holdfast_gauge_quality). Absent while the gauge has no valid reading.",
 		[]string{"gauge"}, nil)
 	descTemperature = prometheus.NewDesc("holdfast_temperature_celsius",
 		"Last valid temperature read by the poller. Absent while the gauge has no valid reading.",
@@ -65,7 +65,7 @@ var (
 		"1 if the gauge answered its last polls and reports no sensor fault, else 0.",
 		[]string{"gauge"}, nil)
 	descQuality = prometheus.NewDesc("holdfast_gauge_quality",
-		"1 for the quality of the gauge's last sample (ok, over-range, under-range, sensor-fault, off), 0 for the others.",
+		"1 for the quality of the gauge's last sample (ok, over-range, under-range, sensor-fault, off, extrapolated), 0 for the others.",
 		[]string{"gauge", "quality"}, nil)
 	descLast = prometheus.NewDesc("holdfast_last_sample_timestamp_seconds",
 		"Unix time of the gauge's last sample, on the daemon's clock.",
