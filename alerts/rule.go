@@ -40,8 +40,11 @@ func unknown() Condition { return Condition{Value: math.NaN(), Limit: math.NaN()
 // (SI, NaN for none). Once in alarm, the value must come back past the limit
 // by Deadband (SI, same dimension) before the condition clears, so a value
 // hovering at the limit does not chatter. An over-range sample is above any
-// upper limit, an under-range one below any lower limit; a sample with no
-// value decides nothing (stale and fault rules speak for it).
+// upper limit, an under-range one below any lower limit; an extrapolated
+// sample (outside its calibration's range) is held against the limits like
+// an ok one, so a limit never goes silent at a calibration's edge, and its
+// reading says extrapolated; a sample with no value decides nothing (stale
+// and fault rules speak for it).
 type Limit struct {
 	Gauge    string
 	Above    float64
@@ -74,8 +77,11 @@ func (l *Limit) Observe(_ string, s calib.Sample, active bool) Condition {
 	c := Condition{Known: true, Value: s.Value, Limit: math.NaN(), Unit: l.Unit.Symbol()}
 	c.ValueText = s.Quality.String()
 	switch s.Quality {
-	case calib.QualityOK:
+	case calib.QualityOK, calib.QualityExtrapolated:
 		c.ValueText = calib.Format(s.Value, l.Unit)
+		if s.Quality == calib.QualityExtrapolated {
+			c.ValueText += ", extrapolated"
+		}
 		switch {
 		case !math.IsNaN(l.Above) && s.Value > l.Above-db:
 			c.Active, c.Limit = s.Value > l.Above || active, l.Above

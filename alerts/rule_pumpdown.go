@@ -40,7 +40,7 @@ func (r *PumpDeadline) Observe(_ string, s calib.Sample, _ bool) Condition {
 		p = math.Inf(1)
 	case calib.QualityUnderRange:
 		p = 0
-	case calib.QualityOK:
+	case calib.QualityOK, calib.QualityExtrapolated:
 	default:
 		return unknown()
 	}

@@ -114,9 +114,11 @@ func (c *Calibration) UnmarshalJSON(b []byte) error {
 }
 
 // Apply returns the pressure (Pa) for raw. Outside the valid raw range it
-// still returns a value (the model extended, or the nearer range limit where
-// the model has none) together with an error wrapping ErrBelowRange or
-// ErrAboveRange (by pressure), so callers can warn or refuse.
+// returns an error wrapping ErrBelowRange or ErrAboveRange (by pressure),
+// with the model extended as the value where the model has one (see
+// Extend) and NaN where it has none, so callers can warn or refuse; it
+// never returns a range limit in place of a value. Extended turns the
+// extension into a live reading of quality extrapolated.
 func (c *Calibration) Apply(raw float64) (float64, error) {
 	if c.curve == nil {
 		return 0, errors.New("calibration has no curve: build it with Fit or read it from JSON")
@@ -125,25 +127,62 @@ func (c *Calibration) Apply(raw float64) (float64, error) {
 		return 0, fmt.Errorf("raw %g: %w", raw, ErrFault)
 	}
 	v := c.Valid
-	p, ok := c.curve.pressure(raw)
-	outside := raw < v.RawMin || raw > v.RawMax
-	if ok && !outside {
+	p, xerr := c.Extend(raw)
+	if raw >= v.RawMin && raw <= v.RawMax {
+		if xerr != nil {
+			return math.NaN(), xerr // a curve without a value inside its own range: read from a hand-edited file
+		}
 		return p, nil
+	}
+	if xerr != nil {
+		p = math.NaN()
 	}
 	// Which pressure limit lies on the raw side we left?
 	low := raw < v.RawMin
 	if c.rising() != low { // e.g. rising curve and raw above range → pressure above
-		if !ok {
-			p = v.PressureMax
-		}
 		return p, fmt.Errorf("raw %.6g outside the calibrated raw range %.6g…%.6g (pressure above %.4g Pa): %w",
 			raw, v.RawMin, v.RawMax, v.PressureMax, ErrAboveRange)
 	}
-	if !ok {
-		p = v.PressureMin
-	}
 	return p, fmt.Errorf("raw %.6g outside the calibrated raw range %.6g…%.6g (pressure below %.4g Pa): %w",
 		raw, v.RawMin, v.RawMax, v.PressureMin, ErrBelowRange)
+}
+
+// Extend returns the model's own pressure (Pa) at raw, inside or outside
+// the valid range, or an error saying why the model has none there: at or
+// below its zero signal (the heat-loss model's s0, the raw value where a
+// linear model reaches 0 Pa) it wraps ErrBelowRange, at or above a heat-
+// loss model's saturation ErrAboveRange.
+func (c *Calibration) Extend(raw float64) (float64, error) {
+	if c.curve == nil {
+		return 0, errors.New("calibration has no curve: build it with Fit or read it from JSON")
+	}
+	switch cv := c.curve.(type) {
+	case heatLossCurve:
+		h := cv.h
+		switch s := raw - h.S0; {
+		case s <= 0:
+			return math.NaN(), fmt.Errorf("raw %.6g is at or below the heat-loss model's zero signal s0 = %.6g (the signal at zero pressure): the model has no pressure there: %w",
+				raw, h.S0, ErrBelowRange)
+		case s >= h.A*h.Pt:
+			return math.NaN(), fmt.Errorf("raw %.6g is at or above the heat-loss model's saturation s0 + a·p_t = %.6g: the model has no pressure there: %w",
+				raw, h.S0+h.A*h.Pt, ErrAboveRange)
+		}
+	case linearCurve:
+		if p, _ := cv.pressure(raw); !(p > 0) && cv.span != 0 {
+			return math.NaN(), fmt.Errorf("raw %.6g is at or beyond the linear model's zero signal %.6g (where it reaches 0 Pa): the model has no pressure there: %w",
+				raw, -cv.offset/cv.span, ErrBelowRange)
+		}
+	}
+	p, ok := c.curve.pressure(raw)
+	switch {
+	case !ok || math.IsNaN(p):
+		return math.NaN(), fmt.Errorf("raw %.6g: the %s model has no pressure there: %w", raw, c.Model, ErrBelowRange)
+	case math.IsInf(p, 1):
+		return math.NaN(), fmt.Errorf("raw %.6g: the %s model's pressure overflows: %w", raw, c.Model, ErrAboveRange)
+	case !(p > 0):
+		return math.NaN(), fmt.Errorf("raw %.6g: the %s model gives %g Pa, not a pressure: %w", raw, c.Model, p, ErrBelowRange)
+	}
+	return p, nil
 }
 
 // rising reports whether pressure increases with raw.

@@ -36,7 +36,7 @@ func TestCalibrationJSONRoundTrip(t *testing.T) {
 			for _, raw := range []float64{pts[0].Raw, 0.5, 1.2, 5, pts[7].Raw} {
 				p1, e1 := c.Apply(raw)
 				p2, e2 := back.Apply(raw)
-				if p1 != p2 || (e1 == nil) != (e2 == nil) {
+				if math.Float64bits(p1) != math.Float64bits(p2) || (e1 == nil) != (e2 == nil) {
 					t.Errorf("Apply(%g): %g,%v before, %g,%v after the round trip", raw, p1, e1, p2, e2)
 				}
 			}
@@ -61,7 +61,9 @@ func TestCalibrationJSONRejects(t *testing.T) {
 	}
 }
 
-// Outside the valid range Apply returns a value and a range error.
+// Outside the valid range Apply returns the model extended and a range
+// error; where the model has no value (at or below its zero signal) it
+// returns NaN and says so, never the range limit as if it were a reading.
 func TestCalibrationApplyOutsideRange(t *testing.T) {
 	h := HeatLoss{S0: 0.35, A: 0.021, Pt: 180}
 	var pts []Point
@@ -73,9 +75,12 @@ func TestCalibrationApplyOutsideRange(t *testing.T) {
 	if !errors.Is(err, ErrBelowRange) || !near(p, 0.5, 1e-6) || QualityOf(err) != QualityUnderRange {
 		t.Errorf("Apply(below) = %g, %v; want 0.5 Pa and ErrBelowRange", p, err)
 	}
-	p, err = c.Apply(0.1) // below S0: the model has no value; the range limit stands in
-	if !errors.Is(err, ErrBelowRange) || p != c.Valid.PressureMin {
-		t.Errorf("Apply(0.1) = %g, %v; want %g and ErrBelowRange", p, err, c.Valid.PressureMin)
+	p, err = c.Apply(0.1) // below S0 = 0.35: the model has no value
+	if !errors.Is(err, ErrBelowRange) || !math.IsNaN(p) {
+		t.Errorf("Apply(0.1) = %g, %v; want NaN (no value) and ErrBelowRange", p, err)
+	}
+	if _, err := c.Extend(0.1); err == nil || !strings.Contains(err.Error(), "zero signal s0 = 0.35") {
+		t.Errorf("Extend(0.1) error %v; want one naming the zero signal s0 = 0.35", err)
 	}
 	p, err = c.Apply(h.Signal(2000))
 	if !errors.Is(err, ErrAboveRange) || !near(p, 2000, 1e-6) {

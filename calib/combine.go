@@ -29,10 +29,14 @@ func (s Span) Validate() error {
 // pressure, and outside an overlap the one member in range has weight 1.
 // All weights are zero when no member counts.
 func BlendWeights(spans []Span, samples []Sample) []float64 {
+	return weights(spans, samples, QualityOK)
+}
+
+func weights(spans []Span, samples []Sample, q Quality) []float64 {
 	w := make([]float64, len(spans))
 	total := 0.0
 	for i, s := range spans {
-		if i >= len(samples) || samples[i].Quality != QualityOK || !(samples[i].Value > 0) || s.Validate() != nil {
+		if i >= len(samples) || samples[i].Quality != q || !(samples[i].Value > 0) || s.Validate() != nil {
 			continue
 		}
 		lp := math.Log10(samples[i].Value)
@@ -54,11 +58,17 @@ func BlendWeights(spans []Span, samples []Sample) []float64 {
 var ErrNoMember = errors.New("no member gauge has a valid reading")
 
 // Blend merges the members' samples into one: the weighted mean of their
-// log pressures (weights from BlendWeights). When no member is in range but
-// some are QualityOK, it returns the reading of the member nearest its own
-// span, with an error wrapping ErrBelowRange or ErrAboveRange; when none is
-// OK it returns ErrNoMember. The result's Raw is 0: a combined gauge has no
-// raw signal of its own.
+// log pressures (weights from BlendWeights), QualityOK. An extrapolated
+// member (read outside its calibration's range) counts only where no ok
+// member is in range; the blend of such members, with the same weights, is
+// QualityExtrapolated. When no member is in its span but some have a value,
+// it returns the reading of the member nearest its own span: with an error
+// wrapping ErrAboveRange (ErrBelowRange) when that reading lies above
+// (below) every member's span, else QualityExtrapolated, because a pressure
+// inside the combined range is no over- or under-range even when the member
+// trusted there cannot read it. When no member has a value it returns
+// ErrNoMember. The result's Raw is 0: a combined gauge has no raw signal
+// of its own.
 func Blend(spans []Span, samples []Sample) (Sample, error) {
 	if len(spans) != len(samples) {
 		return Sample{}, fmt.Errorf("blend: %d ranges for %d samples", len(spans), len(samples))
@@ -67,15 +77,18 @@ func Blend(spans []Span, samples []Sample) (Sample, error) {
 	for _, s := range samples {
 		out.At = later(out.At, s)
 	}
-	w := BlendWeights(spans, samples)
-	lp := 0.0
-	for i, wi := range w {
-		if wi > 0 {
-			lp += wi * math.Log10(samples[i].Value)
+	for _, q := range []Quality{QualityOK, QualityExtrapolated} {
+		w := weights(spans, samples, q)
+		if !anyPositive(w) {
+			continue
 		}
-	}
-	if anyPositive(w) {
-		out.Value, out.Quality = math.Pow(10, lp), QualityOK
+		lp := 0.0
+		for i, wi := range w {
+			if wi > 0 {
+				lp += wi * math.Log10(samples[i].Value)
+			}
+		}
+		out.Value, out.Quality = math.Pow(10, lp), q
 		return out, nil
 	}
 	return nearestOutside(out, spans, samples)
@@ -98,11 +111,12 @@ func anyPositive(w []float64) bool {
 	return false
 }
 
-// nearestOutside picks, among OK members out of range, the one closest (in decades) to its span.
+// nearestOutside picks, among members with a value out of range, the one
+// closest (in decades) to its span.
 func nearestOutside(out Sample, spans []Span, samples []Sample) (Sample, error) {
 	best, dist := -1, math.Inf(1)
 	for i, s := range samples {
-		if s.Quality != QualityOK || !(s.Value > 0) || spans[i].Validate() != nil {
+		if !s.Quality.HasValue() || !(s.Value > 0) || spans[i].Validate() != nil {
 			continue
 		}
 		lp := math.Log10(s.Value)
@@ -116,10 +130,20 @@ func nearestOutside(out Sample, spans []Span, samples []Sample) (Sample, error) 
 		return out, ErrNoMember
 	}
 	out.Value = samples[best].Value
-	if out.Value < spans[best].Low {
+	low, high := math.Inf(1), 0.0
+	for _, sp := range spans {
+		if sp.Validate() == nil {
+			low, high = min(low, sp.Low), max(high, sp.High)
+		}
+	}
+	switch {
+	case out.Value < low:
 		out.Quality = QualityUnderRange
 		return out, fmt.Errorf("member %d reads %g Pa, below every member's range: %w", best+1, out.Value, ErrBelowRange)
+	case out.Value > high:
+		out.Quality = QualityOverRange
+		return out, fmt.Errorf("member %d reads %g Pa, above every member's range: %w", best+1, out.Value, ErrAboveRange)
 	}
-	out.Quality = QualityOverRange
-	return out, fmt.Errorf("member %d reads %g Pa, above every member's range: %w", best+1, out.Value, ErrAboveRange)
+	out.Quality = QualityExtrapolated
+	return out, nil
 }

@@ -25,6 +25,10 @@ type activateJSON struct {
 	Calibration calibJSON `json:"calibration,omitzero"`
 	Gauge       string    `json:"gauge"`
 	Replaced    uint32    `json:"replaced"` // the version active before; 0 for the instrument's own curve
+	// Activation only: the raw and pressure range the version was fitted
+	// over, and what the gauge reads outside it.
+	Covers  string `json:"covers,omitempty"`
+	Outside string `json:"outside,omitempty"`
 }
 
 func (d *Daemon) apiCalibList(w http.ResponseWriter, r *http.Request) {
@@ -139,7 +143,11 @@ func (d *Daemon) apiCalibActivate(w http.ResponseWriter, r *http.Request) {
 		apiFail(w, err)
 		return
 	}
-	writeJSON(w, activateJSON{Calibration: calibJSON{rec, rec.State()}, Gauge: rec.Gauge, Replaced: replaced})
+	out := activateJSON{Calibration: calibJSON{rec, rec.State()}, Gauge: rec.Gauge, Replaced: replaced, Covers: rec.Calibration.Covers()}
+	if g := d.gaugeNamed(rec.Gauge); g != nil {
+		out.Outside = g.extended(rec.Calibration).Beyond()
+	}
+	writeJSON(w, out)
 }
 
 func (d *Daemon) apiCalibRetire(w http.ResponseWriter, r *http.Request) {

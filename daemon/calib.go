@@ -37,6 +37,14 @@ func (g *gauge) liveState() *gaugeLive {
 	return g.live
 }
 
+// extended is how g applies calibration c live: c inside its fitted range,
+// and outside it the model extended or the instrument's own curve, with
+// quality extrapolated (calib.Extended), so a calibration never blanks a
+// gauge that its instrument can still read.
+func (g *gauge) extended(c *calib.Calibration) calib.Extended {
+	return calib.Extended{Cal: c, Instrument: g.liveState().builtin}
+}
+
 // virtual reports whether g is a combined gauge.
 func (g *gauge) virtual() bool { return len(g.cfg.Combine) > 0 }
 
@@ -86,7 +94,7 @@ func (d *Daemon) loadCalibrations() error {
 			d.log.Error("active calibration unreadable; using the instrument's own curve", "gauge", name, "calibration", id, "err", err)
 			continue
 		}
-		g.setTransfer(rec.Calibration, id)
+		g.setTransfer(g.extended(rec.Calibration), id)
 		d.log.Info("calibration applied", "gauge", name, "calibration", id, "model", rec.Model)
 	}
 	return nil
@@ -139,7 +147,7 @@ func (d *Daemon) activate(id uint32, note string) (calibstore.Record, uint32, er
 	if err != nil {
 		return rec, 0, err
 	}
-	g.setTransfer(rec.Calibration, id)
+	g.setTransfer(g.extended(rec.Calibration), id)
 	d.log.Info("calibration activated", "gauge", g.name, "calibration", id, "replaced", replaced)
 	return rec, replaced, nil
 }

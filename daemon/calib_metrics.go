@@ -40,16 +40,16 @@ func (c calibCollector) Collect(ch chan<- prometheus.Metric) {
 		t, id := g.transfer, g.calID
 		g.mu.Unlock()
 		model := "instrument"
-		cal, ok := t.(*calib.Calibration)
+		ext, ok := t.(calib.Extended)
 		if ok && id != 0 {
-			model = cal.Model
+			model = ext.Cal.Model
 		}
 		ch <- prometheus.MustNewConstMetric(descCalibInfo, prometheus.GaugeValue, 1, g.name, strconv.FormatUint(uint64(id), 10), model)
 		v := g.view(now)
 		if !ok || id == 0 || !v.seen || v.stale || v.last.Quality != calib.QualityOK {
 			continue
 		}
-		if u, in := cal.Uncertainty.At(v.last.Value); in {
+		if u, in := ext.Cal.Uncertainty.At(v.last.Value); in {
 			ch <- prometheus.MustNewConstMetric(descCalibU, prometheus.GaugeValue, u, g.name)
 		}
 	}

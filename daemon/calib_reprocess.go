@@ -18,22 +18,31 @@ type reprocessRequest struct {
 	Calibration uint32    `json:"calibration"`
 	From        time.Time `json:"from"`
 	To          time.Time `json:"to"`
-	// RecheckRange also recomputes samples stored as over- or under-range.
+	// RecheckRange also recomputes samples stored as over- or under-range,
+	// and lets the new calibration flag samples that had a value.
 	// Leave it off when the instrument itself may have flagged them: the
 	// store cannot tell its flags from an old calibration's range check.
 	RecheckRange bool   `json:"recheck_range,omitempty"`
 	Note         string `json:"note,omitempty"`
 }
 
-// recompute returns p with its value from t, or p unchanged (flagged).
+// recompute returns p with its value from t, or p unchanged (false). Ok
+// and extrapolated samples are recomputed; flagged ones only with recheck
+// (over- and under-range). Without recheck a sample that has a value never
+// loses it: where t would flag it (its raw signal beyond anything t can
+// read), it is kept as stored.
 func recompute(p store.Point, t calib.Transfer, id uint32, recheck bool) (store.Point, bool) {
 	q := calib.Quality(p.Quality)
-	if q != calib.QualityOK && !(recheck && (q == calib.QualityOverRange || q == calib.QualityUnderRange)) {
+	if !q.HasValue() && !(recheck && (q == calib.QualityOverRange || q == calib.QualityUnderRange)) {
 		return p, false
 	}
 	v, err := t.Apply(p.Raw)
-	p.Quality, p.Calibration, p.Value = uint8(calib.QualityOf(err)), id, v
-	if err != nil {
+	nq := calib.QualityOf(err)
+	if q.HasValue() && !nq.HasValue() && !recheck {
+		return p, false
+	}
+	p.Quality, p.Calibration, p.Value = uint8(nq), id, v
+	if !nq.HasValue() {
 		p.Value = math.NaN()
 	}
 	return p, true
@@ -110,5 +119,5 @@ func (d *Daemon) transferFor(g *gauge, id uint32) (calib.Transfer, error) {
 	if rec.Gauge != g.name {
 		return nil, fmt.Errorf("calibration %d was fitted for gauge %s, not %s", id, rec.Gauge, g.name)
 	}
-	return rec.Calibration, nil
+	return g.extended(rec.Calibration), nil
 }

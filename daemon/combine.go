@@ -99,7 +99,7 @@ func (d *Daemon) blend(vg *gauge) calib.Sample {
 	if errors.Is(err, calib.ErrNoMember) {
 		out.Quality = noMemberQuality(samples)
 	}
-	if out.Quality != calib.QualityOK {
+	if !out.Quality.HasValue() {
 		out.Value = math.NaN()
 	}
 	return out

@@ -187,10 +187,10 @@ type corrected struct {
 
 func (x corrected) Apply(raw float64) (float64, error) {
 	v, err := x.t.Apply(raw)
-	if err != nil {
+	if !calib.QualityOf(err).HasValue() {
 		return v, err
 	}
-	return x.c.apply(v, x.chamberC, x.hasC), nil
+	return x.c.apply(v, x.chamberC, x.hasC), err // an extrapolated value is corrected too
 }
 
 // gasJSON and transpirationJSON describe a gauge's corrections in

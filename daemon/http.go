@@ -76,7 +76,7 @@ func (d *Daemon) apiGauges(w http.ResponseWriter, _ *http.Request) {
 			if raw := v.last.Raw; !math.IsNaN(raw) && !math.IsInf(raw, 0) {
 				j.Raw = &raw // an instrument with no number (off, fault) has no raw value
 			}
-			if v.last.Quality == calib.QualityOK {
+			if v.last.Quality.HasValue() {
 				val := v.last.Value
 				j.Value, j.Display = &val, calib.Format(val, g.unit)
 			}

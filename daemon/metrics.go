@@ -50,7 +50,7 @@ func newMetrics(d *Daemon) *metrics {
 
 var (
 	descPressure = prometheus.NewDesc("holdfast_pressure_pascals",
-		"Last valid pressure read by the poller, after calibration. Absent while the gauge has no valid reading.",
+		"Last valid pressure read by the poller, after calibration; also exported when extrapolated beyond a calibration's fitted range (see holdfast_gauge_quality). Absent while the gauge has no valid reading.",
 		[]string{"gauge"}, nil)
 	descTemperature = prometheus.NewDesc("holdfast_temperature_celsius",
 		"Last valid temperature read by the poller. Absent while the gauge has no valid reading.",
@@ -65,7 +65,7 @@ var (
 		"1 if the gauge answered its last polls and reports no sensor fault, else 0.",
 		[]string{"gauge"}, nil)
 	descQuality = prometheus.NewDesc("holdfast_gauge_quality",
-		"1 for the quality of the gauge's last sample (ok, over-range, under-range, sensor-fault, off), 0 for the others.",
+		"1 for the quality of the gauge's last sample (ok, over-range, under-range, sensor-fault, off, extrapolated), 0 for the others.",
 		[]string{"gauge", "quality"}, nil)
 	descLast = prometheus.NewDesc("holdfast_last_sample_timestamp_seconds",
 		"Unix time of the gauge's last sample, on the daemon's clock.",
@@ -112,10 +112,10 @@ func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
 			continue
 		}
 		ch <- prometheus.MustNewConstMetric(descLast, prometheus.GaugeValue, float64(v.last.At.UnixNano())/1e9, v.name)
-		for q := calib.QualityOK; q <= calib.QualityOff; q++ {
+		for q := calib.QualityOK; q <= calib.QualityLast; q++ {
 			ch <- prometheus.MustNewConstMetric(descQuality, prometheus.GaugeValue, b2f(v.last.Quality == q), v.name, q.String())
 		}
-		if v.last.Quality != calib.QualityOK || v.stale || !v.up {
+		if !v.last.Quality.HasValue() || v.stale || !v.up {
 			continue
 		}
 		desc := map[string]*prometheus.Desc{"pressure": descPressure, "temperature": descTemperature, "state": descState}[v.kind]

@@ -14,7 +14,8 @@ import (
 )
 
 // A gauge with a valid recent sample exports its value; one whose last
-// sample is over-range, or stale, or that is down exports none (the
+// sample is over-range, or stale, or that is down exports none; an
+// extrapolated one exports its value (the
 // Prometheus convention for missing data is absence, not NaN).
 func TestMetricsOmitInvalidValues(t *testing.T) {
 	now := time.Now()
@@ -25,14 +26,19 @@ func TestMetricsOmitInvalidValues(t *testing.T) {
 	stale := fakeGauge("stale", time.Second, nil)
 	stale.seen, stale.up, stale.last = true, true, calib.Sample{At: now.Add(-time.Minute), Value: 7, Quality: calib.QualityOK}
 	never := fakeGauge("never", time.Second, nil)
-	d := testDaemon(t, ok, over, stale, never)
+	// Extrapolated beyond its calibration: a value with reduced trust, exported.
+	extrap := fakeGauge("extrap", time.Second, nil)
+	extrap.seen, extrap.up, extrap.last = true, true, calib.Sample{At: now, Value: 0.4, Quality: calib.QualityExtrapolated}
+	d := testDaemon(t, ok, over, stale, never, extrap)
 
 	want := `
-# HELP holdfast_pressure_pascals Last valid pressure read by the poller, after calibration. Absent while the gauge has no valid reading.
+# HELP holdfast_pressure_pascals Last valid pressure read by the poller, after calibration; also exported when extrapolated beyond a calibration's fitted range (see holdfast_gauge_quality). Absent while the gauge has no valid reading.
 # TYPE holdfast_pressure_pascals gauge
+holdfast_pressure_pascals{gauge="extrap"} 0.4
 holdfast_pressure_pascals{gauge="ok"} 0.0025
 # HELP holdfast_gauge_up 1 if the gauge answered its last polls and reports no sensor fault, else 0.
 # TYPE holdfast_gauge_up gauge
+holdfast_gauge_up{gauge="extrap"} 1
 holdfast_gauge_up{gauge="never"} 0
 holdfast_gauge_up{gauge="ok"} 1
 holdfast_gauge_up{gauge="over"} 1

@@ -189,7 +189,7 @@ func (d *Daemon) sample(g *gauge, r drivers.Reading) (calib.Sample, uint32) {
 		}
 		v, err := transfer.Apply(raw)
 		s.Quality = calib.QualityOf(err)
-		if err == nil {
+		if s.Quality.HasValue() {
 			s.Value = v
 			if g.corr != nil {
 				s.Value = g.corr.live(d.log, g.name, v, s.At)
@@ -217,11 +217,11 @@ func (d *Daemon) record(log *slog.Logger, g *gauge, s calib.Sample) {
 	switch {
 	case up && (!wasUp || !wasSeen):
 		msg := "reads " + s.Quality.String()
-		if s.Quality == calib.QualityOK {
+		if s.Quality.HasValue() {
 			msg = "reads " + calib.Format(s.Value, g.unit)
 		}
 		attrs := []any{"gauge", g.name, "quality", s.Quality.String()}
-		if s.Quality == calib.QualityOK {
+		if s.Quality.HasValue() {
 			attrs = append(attrs, "value", calib.Format(s.Value, g.unit))
 		}
 		log.Info("gauge up", attrs...)

@@ -50,11 +50,16 @@ func cmdCalibEval(ctx context.Context, args []string, stdout, stderr io.Writer) 
 	for _, s := range raws {
 		raw, _ := strconv.ParseFloat(s, 64)
 		p, err := c.Apply(raw)
+		if _, xerr := c.Extend(raw); err != nil && xerr != nil {
+			// No pressure at all (at or below the model's zero signal):
+			// refused, never a range limit printed as if it were one.
+			return fmt.Errorf("calib eval: %w", xerr)
+		}
 		if err != nil && *strict {
 			return fmt.Errorf("calib eval: %w (without --strict it would print %s)", err, strconv.FormatFloat(unit.FromSI(p), 'g', 6, 64))
 		}
 		if err != nil {
-			fmt.Fprintf(stderr, "holdfast: calib eval: warning: %v\n", err)
+			fmt.Fprintf(stderr, "holdfast: calib eval: warning: %v: the value is the model extended (extrapolated)\n", err)
 		}
 		fmt.Fprintln(stdout, strconv.FormatFloat(unit.FromSI(p), 'g', 6, 64))
 	}

@@ -93,6 +93,12 @@ func TestCalibLiveCommands(t *testing.T) {
 	if out, _, err = runCmd(t, append([]string{"calib", "activate", "1"}, api...)...); err != nil || !strings.Contains(out, "active for fore") {
 		t.Fatalf("calib activate: %v %q", err, out)
 	}
+	// Activation says what the version covers and what happens outside it.
+	for _, w := range []string{"fitted over raw ", " Pa; outside that the gauge reads on the heat-loss model extended", "quality extrapolated"} {
+		if !strings.Contains(out, w) {
+			t.Errorf("calib activate printed %q; want it to say %q", out, w)
+		}
+	}
 	out, _, err = runCmd(t, append([]string{"calib", "list", "--json"}, api...)...)
 	var recs []liveCal
 	if err != nil || json.Unmarshal([]byte(out), &recs) != nil || len(recs) != 1 || recs[0].State != "active" || recs[0].Calibration.Fit.Points != 3 {

@@ -83,11 +83,16 @@ func cmdCalibActivate(ctx context.Context, args []string, stdout, stderr io.Writ
 	var out struct {
 		Gauge    string `json:"gauge"`
 		Replaced uint32 `json:"replaced"`
+		Covers   string `json:"covers"`
+		Outside  string `json:"outside"`
 	}
 	if err := api.do(ctx, "POST", fmt.Sprintf("/api/v1/calibrations/%d/activate", id), map[string]string{"note": *note}, &out); err != nil {
 		return fmt.Errorf("calib activate: %w", err)
 	}
 	fmt.Fprintf(stdout, "calibration %d is active for %s from its next reading (replaced %s)\n", id, out.Gauge, versionName(out.Replaced))
+	if out.Covers != "" {
+		fmt.Fprintf(stdout, "fitted over %s; outside that the gauge reads on %s\n", out.Covers, out.Outside)
+	}
 	return nil
 }
 

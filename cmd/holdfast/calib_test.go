@@ -275,3 +275,28 @@ func countStroke(paths []svgPath, c color.RGBA) int {
 	}
 	return n
 }
+
+// A raw value at or below a heat-loss model's zero signal has no pressure:
+// eval refuses it, naming the zero signal, instead of printing the bottom
+// of the range as if it were a reading. The calibration is written by hand:
+// S0 = 2, A = 0.5 /Pa, p_t = 100 Pa (REFERENCES.md §5b), valid from raw
+// 4.380952 (5 Pa = 2 + 2.5/1.05) to 43.666667 (500 Pa = 2 + 250/6).
+func TestCalibEvalBelowZeroSignal(t *testing.T) {
+	file := filepath.Join(t.TempDir(), "c.json")
+	js := `{"format": 1, "model": "heat-loss", "parameters": {"s0": 2, "a_per_pa": 0.5, "pt_pa": 100},
+	  "points": [], "fit": {}, "uncertainty": {},
+	  "valid": {"raw_min": 4.380952, "raw_max": 43.666667, "pressure_min_pa": 5, "pressure_max_pa": 500}}`
+	if err := os.WriteFile(file, []byte(js), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	got, _, err := runCmd(t, "calib", "eval", "--calibration", file, "1.5")
+	if err == nil || !strings.Contains(err.Error(), "zero signal s0 = 2") || strings.TrimSpace(got) != "" {
+		t.Errorf("eval 1.5 below s0: printed %q, err %v; want nothing printed and an error naming the zero signal s0 = 2", got, err)
+	}
+	// Between S0 and the range: the model extended, with a warning. raw
+	// 2.25: p = 0.25·100/(50 − 0.25) = 0.502513 Pa by hand.
+	got, warn, err := runCmd(t, "calib", "eval", "--calibration", file, "2.25")
+	if v, _ := strconv.ParseFloat(strings.TrimSpace(got), 64); err != nil || math.Abs(v-0.502513) > 1e-6 || !strings.Contains(warn, "extrapolated") {
+		t.Errorf("eval 2.25: printed %q (%v), stderr %q; want 0.502513 with an extrapolated warning", got, err, warn)
+	}
+}

@@ -20,6 +20,11 @@ step can be undone by reprocessing each listed run with its old id.
 Samples flagged by the instrument (sensor fault, off) are kept as they are;
 so are over- and under-range samples unless --recheck-range is given (the
 store cannot tell an instrument's range flag from an old calibration's).
+Outside the new calibration's fitted range a sample is recomputed as the
+gauge reads live (quality extrapolated); a sample that had a value and
+that the new calibration cannot read at all keeps its stored value unless
+--recheck-range is given: without it, reprocess never turns a reading into
+a flag.
 Times are RFC 3339 (2026-03-02T14:05:00Z) or local "2026-03-02 14:05".`
 
 // cmdReprocess recomputes stored values with another calibration.

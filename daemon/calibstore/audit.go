@@ -28,7 +28,9 @@ type Audit struct {
 	Changed  int       `json:"changed,omitempty"`
 	Previous []Run     `json:"previous,omitempty"`
 	// KeptFlags counts samples left as stored because their quality was
-	// flagged (a sensor fault, the instrument off, or a range flag).
+	// flagged (a sensor fault, the instrument off, or a range flag), or
+	// because the new calibration would have flagged a sample that had a
+	// value (only --recheck-range lets it).
 	KeptFlags int    `json:"kept_flags,omitempty"`
 	Status    string `json:"status,omitempty"` // reprocess: started, done, or failed: why
 	Note      string `json:"note,omitempty"`

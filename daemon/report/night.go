@@ -38,7 +38,8 @@ type Series struct {
 	Stored, NotOK int
 }
 
-// A Point is one stored sample; Value is meaningful only when Quality is ok.
+// A Point is one stored sample; Value is meaningful only when
+// Quality.HasValue() (ok or extrapolated).
 type Point struct {
 	At      time.Time
 	Value   float64
@@ -47,7 +48,7 @@ type Point struct {
 
 // ok reports whether p can be drawn.
 func (p Point) ok(kind string) bool {
-	if p.Quality != calib.QualityOK || math.IsNaN(p.Value) || math.IsInf(p.Value, 0) {
+	if !p.Quality.HasValue() || math.IsNaN(p.Value) || math.IsInf(p.Value, 0) {
 		return false
 	}
 	return kind != "pressure" || p.Value > 0
@@ -161,7 +162,7 @@ func (n *Night) Summaries() []GaugeSummary {
 			}
 			g.Points++
 			g.Min, g.Max = min(g.Min, p.Value), max(g.Max, p.Value)
-			g.Final, g.FinalAt, g.LastStatus = p.Value, p.At, calib.QualityOK
+			g.Final, g.FinalAt, g.LastStatus = p.Value, p.At, p.Quality // ok or extrapolated
 		}
 		g.Stored, g.NotOK = s.Stored, s.NotOK
 		if g.Stored == 0 {

@@ -198,9 +198,10 @@ func yRange(lo, hi float64, log bool) (float64, float64) {
 	return lo - pad, hi + pad
 }
 
-// runs splits a series into the stretches a line may join: consecutive ok
-// points no further apart than MaxStep. Not-ok points end a run and are
-// returned apart, as markers.
+// runs splits a series into the stretches a line may join: consecutive
+// points with a value no further apart than MaxStep. Points without a value
+// end a run and are returned apart, as markers; extrapolated points are
+// drawn in the line and marked as well.
 func runs(s Series) (lines [][]Point, bad []Point) {
 	var cur []Point
 	flush := func() {
@@ -217,6 +218,9 @@ func runs(s Series) (lines [][]Point, bad []Point) {
 		}
 		if len(cur) > 0 && s.MaxStep > 0 && p.At.Sub(cur[len(cur)-1].At) > s.MaxStep {
 			flush()
+		}
+		if p.Quality != calib.QualityOK {
+			bad = append(bad, p) // extrapolated: drawn, and marked in the lane
 		}
 		cur = append(cur, p)
 	}

@@ -10,6 +10,7 @@ import (
 	"strconv"
 	"time"
 
+	"holdfast/calib"
 	"holdfast/daemon/store"
 )
 
@@ -113,7 +114,7 @@ func entry(p store.Point) Entry {
 		return &v
 	}
 	e.Raw = finite(p.Raw)
-	if p.Quality == 0 {
+	if calib.Quality(p.Quality).HasValue() {
 		e.Value = finite(p.Value)
 	}
 	return e
