@@ -7,7 +7,9 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"path/filepath"
 	"slices"
+	"strings"
 	"time"
 
 	berrors "go.etcd.io/bbolt/errors"
@@ -287,3 +289,41 @@ func storedHoldTests(st *alarmstore.Store, n int) ([]HoldTestJSON, error) {
 // isLocked reports whether opening a store failed because another process
 // holds its file lock.
 func isLocked(err error) bool { return errors.Is(err, berrors.ErrTimeout) }
+
+// BareReportConfig is the config a report of a data directory needs when no
+// config file is at hand (a night brought in by holdfast import): every
+// stored series becomes a gauge of the kind kinds gives it, pressure when
+// kinds names none; those are returned as guessed, for the caller to say so.
+// Units are the base units (Pa, °C); the chamber is named after the directory.
+func BareReportConfig(dir string, kinds map[string]string) (cfg *Config, guessed []string, err error) {
+	db, err := store.Open(StorePath(dir), store.Options{ReadOnly: true, Timeout: 300 * time.Millisecond})
+	if err != nil {
+		if isLocked(err) {
+			return nil, nil, fmt.Errorf("%w: %w", ErrDataInUse, err)
+		}
+		return nil, nil, err
+	}
+	series, err := db.Series()
+	err = errors.Join(err, db.Close())
+	if err != nil {
+		return nil, nil, err
+	}
+	cfg = &Config{Chamber: ChamberConfig{Name: filepath.Base(filepath.Clean(dir))}, Store: StoreConfig{Dir: dir},
+		Gauges: map[string]*GaugeConfig{}}
+	for name, k := range kinds {
+		if !slices.Contains(series, name) {
+			return nil, nil, fmt.Errorf("--kind %s=%s: no series %q stored in %s (stored: %s)", name, k, name, dir, strings.Join(series, ", "))
+		}
+		if k != "pressure" && k != "temperature" {
+			return nil, nil, fmt.Errorf("--kind %s=%s: want pressure or temperature", name, k)
+		}
+	}
+	for _, s := range series {
+		k := kinds[s]
+		if k == "" {
+			k, guessed = "pressure", append(guessed, s)
+		}
+		cfg.Gauges[s] = &GaugeConfig{Kind: k}
+	}
+	return cfg, guessed, nil
+}

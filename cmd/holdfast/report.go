@@ -45,7 +45,16 @@ func cmdReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	last := fs.String("last", "", "the `span` ending at --to, e.g. 12h (default 12h when --from is not given)")
 	out := fs.String("o", "", "output `file`: .html, .svg, .png or .pdf")
 	file := fs.String("config", "", "config `file`: gauges, units and the data directory")
-	data := fs.String("data", "", "data `directory` to read instead of the config's store.dir")
+	data := fs.String("data", "", "data `directory` to read instead of the config's store.dir; alone, every stored series is drawn (as pressure unless --kind says otherwise)")
+	kinds := map[string]string{}
+	fs.Func("kind", "with --data and no --config: `GAUGE=KIND` (pressure or temperature); repeat for each gauge", func(v string) error {
+		g, k, ok := strings.Cut(v, "=")
+		if !ok || g == "" {
+			return fmt.Errorf("want GAUGE=KIND, e.g. wall-tc=temperature; got %q", v)
+		}
+		kinds[g] = k
+		return nil
+	})
 	if err := fs.Parse(args); err != nil {
 		return err
 	}
@@ -65,7 +74,7 @@ func cmdReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	}
 	set := map[string]bool{}
 	fs.Visit(func(f *flag.Flag) { set[f.Name] = true })
-	b, err := reportBytes(ctx, api, set["daemon"], *file, *data, from, to, format, stderr)
+	b, err := reportBytes(ctx, api, set["daemon"], *file, *data, kinds, from, to, format, stderr)
 	if err != nil {
 		return fmt.Errorf("report: %w", err)
 	}
@@ -78,17 +87,26 @@ func cmdReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 
 // reportBytes renders the report from the data directory when it can,
 // else asks the daemon, and says on stderr which it did.
-func reportBytes(ctx context.Context, api *apiClient, daemonSet bool, file, data string, from, to time.Time, format string, stderr io.Writer) ([]byte, error) {
-	if file == "" && data != "" {
-		return nil, errors.New("--data needs --config FILE as well: the gauges' kinds and units come from the config")
-	}
-	if file != "" {
-		cfg, err := daemon.CheckConfig(file)
+func reportBytes(ctx context.Context, api *apiClient, daemonSet bool, file, data string, kinds map[string]string, from, to time.Time, format string, stderr io.Writer) ([]byte, error) {
+	if file != "" || data != "" {
+		var cfg *daemon.Config
+		var err error
+		if file != "" {
+			if cfg, err = daemon.CheckConfig(file); err == nil && data != "" {
+				cfg.Store.Dir = data
+			}
+		} else {
+			var guessed []string
+			if cfg, guessed, err = daemon.BareReportConfig(data, kinds); err == nil && len(guessed) > 0 {
+				fmt.Fprintf(stderr, "holdfast report: no --config: drawing %s as pressure in Pa (name others with --kind GAUGE=temperature)\n",
+					strings.Join(guessed, ", "))
+			}
+		}
+		if errors.Is(err, daemon.ErrDataInUse) {
+			return nil, fmt.Errorf("%w (give --config, or ask the daemon with --daemon)", err)
+		}
 		if err != nil {
 			return nil, err
-		}
-		if data != "" {
-			cfg.Store.Dir = data
 		}
 		var buf bytes.Buffer
 		err = daemon.ReportFromDir(&buf, cfg, from, to, format)
