@@ -16,6 +16,7 @@ type Config struct {
 	Alarms  []*AlarmConfig          `yaml:"alarms"`
 	Notify  []*NotifyConfig         `yaml:"notify"`
 	Report  *ReportConfig           `yaml:"report"`
+	Bake    *BakeConfig             `yaml:"bake"`
 
 	// Notes are remarks from checking that are not problems (a secret file
 	// not readable on the checking machine), each "LINE: note: ...".

@@ -29,6 +29,7 @@ func (d *Daemon) handler() http.Handler {
 	d.alarmRoutes(mux)
 	d.seriesRoutes(mux)
 	d.reportRoutes(mux)
+	d.bakeRoutes(mux)
 	return mux
 }
 
