@@ -55,7 +55,7 @@ func playBake(t *testing.T, upTo, wallLag time.Duration) ([]alerts.Event, []Bake
 	for name := range every {
 		gc := cfg.Gauges[name]
 		in, err := ch.Instrument(sim.InstrumentConfig{Name: name, Kind: gc.Instrument, Digits: gc.Digits, Where: gc.Where,
-			FullScale: float64(gc.FullScale), Timeout: time.Second})
+			FullScale: float64(gc.FullScale), Timeout: time.Millisecond}) // a silent instrument waits this long (wall time)
 		if err != nil {
 			t.Fatal(err)
 		}
