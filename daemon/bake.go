@@ -11,6 +11,7 @@ import (
 	"holdfast/alerts"
 	"holdfast/calib"
 	"holdfast/daemon/alarmstore"
+	"holdfast/daemon/report"
 )
 
 // baker is the daemon's side of the bake plan: it feeds the tracker, keeps
@@ -270,4 +271,39 @@ func (d *Daemon) Bakes() ([]BakeJSON, error) {
 		}
 	}
 	return bs, err
+}
+
+// reportBakes turns the stored bakes that overlap from–to into the
+// report's: phases as spans, and the summary.
+func reportBakes(bs []BakeJSON, from, to time.Time) []report.Bake {
+	var out []report.Bake
+	for _, b := range bs {
+		if !b.Start.Before(to) || !b.End.IsZero() && !b.End.After(from) {
+			continue
+		}
+		r := report.Bake{ID: b.ID, Running: b.Phase != "done", Verdict: b.Verdict, MaxC: val(b.MaxC), HoldC: b.HoldC,
+			AtTemp: time.Duration(b.AtTempSeconds * float64(time.Second)), HoldFor: time.Duration(b.HoldForSeconds * float64(time.Second)),
+			PressBefore: val(b.PressBeforePa), PressAfter: val(b.PressAfterPa)}
+		for i, s := range b.Steps {
+			if s.Phase == "done" {
+				break
+			}
+			sp := report.BakeSpan{Phase: s.Phase, From: s.At}
+			if i+1 < len(b.Steps) {
+				sp.To = b.Steps[i+1].At
+			}
+			if n := len(r.Phases); n > 0 && r.Phases[n-1].Phase == sp.Phase {
+				r.Phases[n-1].To = sp.To // the hold time reached: the same phase goes on
+				continue
+			}
+			r.Phases = append(r.Phases, sp)
+		}
+		if h := b.HoldTest; h != nil {
+			r.HoldTest = h.ID + " " + h.Verdict + " " + h.Summary
+		}
+		if len(r.Phases) > 0 {
+			out = append(out, r)
+		}
+	}
+	return out
 }

@@ -1,15 +1,19 @@
 package daemon
 
 import (
+	"bytes"
 	"context"
 	"log/slog"
 	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 	"time"
 
 	"holdfast/alerts"
+	"holdfast/calib"
+	"holdfast/daemon/report"
 	"holdfast/daemon/store"
 	"holdfast/drivers/sim"
 )
@@ -127,4 +131,25 @@ func TestDemoFastRampRaisesAlarm(t *testing.T) {
 		}
 	}
 	t.Error("a 64 °C/min ramp did not raise bake-heating-too-fast")
+}
+
+// The demo's bake reaches the morning report: a header line with its
+// summary, and the phases shaded on the temperature panel.
+func TestDemoBakeInReport(t *testing.T) {
+	_, bs := playBake(t, 3*time.Hour+50*time.Minute, 0)
+	start := time.Date(2026, 3, 1, 18, 0, 0, 0, time.UTC)
+	rb := reportBakes(bs, start, start.Add(4*time.Hour))
+	if len(rb) != 1 || len(rb[0].Phases) != 3 || rb[0].Phases[0].Phase != "ramp" || rb[0].Phases[2].Phase != "cool" {
+		t.Fatalf("report bakes %+v, want one with ramp, hold, cool", rb)
+	}
+	n := &report.Night{Chamber: "demo", From: start, To: start.Add(4 * time.Hour), Bakes: rb,
+		Pressure: calib.Pressure.Base(), Temperature: calib.Temperature.Base(),
+		Series: []report.Series{{Gauge: "wall-tc", Kind: "temperature", Points: []report.Point{{At: start, Value: 22}}}}}
+	var buf bytes.Buffer
+	if err := report.Write(&buf, n, "html"); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(buf.String(), "<h2>Bakes</h2>") || !strings.Contains(buf.String(), "bake 000001 (complete)") {
+		t.Errorf("report lacks the bake summary")
+	}
 }
