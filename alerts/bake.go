@@ -257,7 +257,9 @@ func (b *Bake) advance(t time.Time, lead float64) {
 			b.step(BakeCool, t) // the heat went off before the hold was reached
 		}
 	case BakeHold:
-		if lead < low {
+		// Half the tolerance of hysteresis, so that a reading's noise at
+		// the edge does not flip hold and cool back and forth.
+		if lead < low-p.Tolerance/2 {
 			b.step(BakeCool, t)
 		}
 	case BakeCool:

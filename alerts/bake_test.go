@@ -61,7 +61,8 @@ func handBake(b *Bake) []BakeStep {
 //   - the resting level is 20 °C, so the bake starts when the wall reaches
 //     20 + 10 = 30 °C: minute 20;
 //   - hold from the first reading at or above 150 − 5 = 145 °C: minute 135;
-//   - cool from the first reading below 145 °C: 150 − (m − 200) < 145 at m = 206;
+//   - cool from the first reading below 145 − 5/2 = 142.5 °C (half the
+//     tolerance of hysteresis): 150 − (m − 200) < 142.5 at m = 208;
 //   - done at the first reading at or below 50 °C: minute 300;
 //   - readings within 145–155 °C are those of minutes 135 to 205; each
 //     counts the minute to the next reading: 71 min at temperature, and the
@@ -76,7 +77,7 @@ func handBake(b *Bake) []BakeStep {
 func TestBakeTrackerPhasesAndSummary(t *testing.T) {
 	b := NewBake(testPlan())
 	steps := handBake(b)
-	want := []BakeStep{{BakeRamp, minute(20)}, {BakeHold, minute(135)}, {BakeHold, minute(165)}, {BakeCool, minute(206)}, {BakeDone, minute(300)}}
+	want := []BakeStep{{BakeRamp, minute(20)}, {BakeHold, minute(135)}, {BakeHold, minute(165)}, {BakeCool, minute(208)}, {BakeDone, minute(300)}}
 	if len(steps) != len(want) {
 		t.Fatalf("steps %v, want %v", steps, want)
 	}
