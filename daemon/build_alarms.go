@@ -22,7 +22,7 @@ func (d *Daemon) limits() []*alerts.Alarm {
 		}
 		out = append(out, al)
 	}
-	return out
+	return append(out, d.bakeAlarms()...)
 }
 
 func (d *Daemon) gaugeUnit(name string) calib.Unit {

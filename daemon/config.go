@@ -17,6 +17,7 @@ type Config struct {
 	Shelving ShelvingConfig          `yaml:"shelving"`
 	Notify   []*NotifyConfig         `yaml:"notify"`
 	Report   *ReportConfig           `yaml:"report"`
+	Bake     *BakeConfig             `yaml:"bake"`
 
 	RemoteWrite *RemoteWriteConfig `yaml:"remote_write"` // push stored samples to a receiver (config_remote.go)
 

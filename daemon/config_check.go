@@ -97,6 +97,7 @@ func check(cfg *Config, prior []Problem) []Problem {
 	v.notifiers(cfg)
 	v.report(cfg.Report)
 	v.remoteWrite(cfg.RemoteWrite)
+	v.bake(cfg.Bake)
 	slices.SortStableFunc(cfg.Notes, func(a, b string) int { return cmp.Compare(noteLine(a), noteLine(b)) })
 	return v.probs
 }

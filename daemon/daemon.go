@@ -58,6 +58,7 @@ type Daemon struct {
 	links       []*link
 	gauges      []*gauge // sorted by name
 	alarms      *alerts.Engine
+	bake        *baker // nil without a bake plan
 	met         *metrics
 	ln          net.Listener
 	token       string // bearer token for changes; empty refuses them

@@ -31,6 +31,7 @@ func (d *Daemon) handler() http.Handler {
 	d.alarmRoutes(mux)
 	d.seriesRoutes(mux)
 	d.reportRoutes(mux)
+	d.bakeRoutes(mux)
 	return mux
 }
 

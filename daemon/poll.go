@@ -230,6 +230,7 @@ func (d *Daemon) record(log *slog.Logger, g *gauge, s calib.Sample) {
 		log.Warn("gauge reports a sensor fault", "gauge", g.name)
 		d.emit(Event{At: s.At, Kind: "gauge-down", Gauge: g.name, Message: "instrument reports a sensor fault"})
 	}
+	d.bakeObserve(log, g.name, s)
 	log.Debug("sample", "gauge", g.name, "raw", s.Raw, "value", s.Value, "quality", s.Quality.String())
 }
 

@@ -99,6 +99,11 @@ func gatherNight(cfg *Config, db *store.DB, from, to, now time.Time) (*report.Ni
 		n.Notes = append(n.Notes, fmt.Sprintf("hold tests partly unreadable: %v", err))
 	}
 	n.HoldTests = reportHoldTests(hs, from, to)
+	bakes, berr := storedBakes(st)
+	if berr != nil {
+		n.Notes = append(n.Notes, fmt.Sprintf("bakes partly unreadable: %v", berr))
+	}
+	n.Bakes = reportBakes(bakes, from, to)
 	n.PumpDowns, err = pumpDowns(cfg, db, from, to)
 	if err != nil {
 		n.Notes = append(n.Notes, fmt.Sprintf("pump-down times partly unknown: %v", err))

@@ -55,6 +55,7 @@ var commands = map[string]command{
 	"version":     {"print the version", cmdVersion},
 	"leak":        {"analyse a recorded pressure rise: leak rate, outgassing", cmdLeak},
 	"alarms":      {"list the running daemon's alarms; ack, shelve, unshelve them", cmdAlarms},
+	"bake":        {"list, show and start bakes (a bake plan's phases and summaries) on the running daemon", cmdBake},
 	"holdtest":    {"start, list and show hold tests (pressure-rise tests) on the running daemon", cmdHoldTest},
 	"column":      {"pressure of a liquid column (p = rho*g*h)", cmdColumn},
 	"calib":       {"fit, evaluate and manage gauge calibrations", cmdCalib},

@@ -161,6 +161,9 @@ func headerLines(n *Night) []string {
 	for _, h := range n.HoldTests {
 		lines = append(lines, "hold test "+n.holdText(h))
 	}
+	for _, b := range n.Bakes {
+		lines = append(lines, n.bakeText(b))
+	}
 	lines = append(lines, n.Notes...)
 	return append(lines, Caution)
 }
@@ -211,6 +214,10 @@ p.caution { font-size: .9em; color: #555; border-top: 1px solid #ccc; padding-to
 <ul>
 {{range .HoldTests}}<li>{{.}}</li>
 {{end}}</ul>
+{{end}}{{if .Bakes}}<h2>Bakes</h2>
+<ul>
+{{range .Bakes}}<li>{{.}}</li>
+{{end}}</ul>
 {{end}}<figure>
 {{.SVG}}
 </figure>
@@ -236,6 +243,7 @@ func writeHTML(w io.Writer, n *Night) error {
 		Gauges            []gaugeRow
 		PumpDowns, Alarms []textItem
 		HoldTests         []string
+		Bakes             []string
 		MaxTemp           string
 		Counts            AlarmCounts
 		SVG               template.HTML
@@ -250,6 +258,9 @@ func writeHTML(w io.Writer, n *Night) error {
 	}
 	for _, h := range n.HoldTests {
 		data.HoldTests = append(data.HoldTests, n.holdText(h))
+	}
+	for _, b := range n.Bakes {
+		data.Bakes = append(data.Bakes, n.bakeText(b))
 	}
 	return htmlPage.Execute(w, data)
 }

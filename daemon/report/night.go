@@ -21,6 +21,7 @@ type Night struct {
 	Alarms      []AlarmPeriod
 	HoldTests   []HoldTest
 	PumpDowns   []PumpDown
+	Bakes       []Bake // the bakes that overlap the period
 	Generated   time.Time
 	Notes       []string // what the gatherer could not read, for the header
 }

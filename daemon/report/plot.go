@@ -158,6 +158,9 @@ func (f *figure) panel(kind string, u calib.Unit) (*plot.Plot, error) {
 		p.Y.Tick.Label.Handler = powerText{text.Plain{Fonts: font.DefaultCache}}
 	}
 	f.shadeAlarms(p, ymin, ymax)
+	if kind == "temperature" {
+		f.shadeBakes(p, ymin, ymax)
+	}
 	if log {
 		f.markHoldTests(p, ymin, ymax)
 	}
