@@ -87,15 +87,18 @@ func (d *Daemon) observeHealth(log *slog.Logger, now time.Time) {
 	}
 }
 
-var eventKinds = map[alerts.EventKind]string{alerts.LimitCrossed: "limit-crossed", alerts.Raised: "alarm-raised", alerts.Cleared: "alarm-cleared"}
-
-// alarmEvent logs an engine event, hands transitions to the notifiers and
-// shows the event to whoever watches the daemon.
-func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
+// logAlarmEvent logs an alarm event once, as what it is: an event of the
+// process, never a software error. A raise of a high or critical alarm is a
+// warning; every other raise, clear and crossing is information.
+func logAlarmEvent(log *slog.Logger, ev alerts.Event) {
 	attrs := []any{"alarm", ev.Alarm, "gauge", ev.Gauge, "severity", string(ev.Severity), "state", string(ev.State), "detail", ev.Message}
 	switch ev.Kind {
 	case alerts.Raised:
-		log.Error("alarm raised", attrs...)
+		level := slog.LevelInfo
+		if ev.Severity == "high" || ev.Severity == alerts.SeverityCritical {
+			level = slog.LevelWarn
+		}
+		log.Log(context.Background(), level, "alarm raised", attrs...)
 	case alerts.Cleared:
 		log.Info("alarm cleared", attrs...)
 	case alerts.LimitCrossed:
@@ -103,6 +106,14 @@ func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
 	default:
 		log.Info("alarm "+string(ev.Kind), attrs...)
 	}
+}
+
+var eventKinds = map[alerts.EventKind]string{alerts.LimitCrossed: "limit-crossed", alerts.Raised: "alarm-raised", alerts.Cleared: "alarm-cleared"}
+
+// alarmEvent logs an engine event, hands transitions to the notifiers and
+// shows the event to whoever watches the daemon.
+func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
+	logAlarmEvent(log, ev)
 	if ev.Transition() {
 		d.deliver(ev)
 	}

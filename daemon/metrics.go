@@ -3,7 +3,6 @@ package daemon
 import (
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/collectors"
-	"github.com/prometheus/client_golang/prometheus/collectors/version"
 
 	"holdfast/calib"
 )
@@ -39,7 +38,7 @@ func newMetrics(d *Daemon) *metrics {
 	m.reg.MustRegister(
 		collectors.NewGoCollector(),
 		collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}),
-		version.NewCollector("holdfast"),
+		buildInfoCollector(ReadBuild()),
 		m.polls, m.pollErrors, m.skipped,
 		&liveCollector{d: d},
 		storeCollector{d: d},

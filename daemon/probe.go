@@ -25,6 +25,7 @@ type ProbeResult struct {
 	Reading drivers.Reading
 	Sample  calib.Sample // after the gauge's transfer; Quality says if Value is valid
 	Unit    calib.Unit   // the gauge's display unit
+	Kind    string       // the gauge's kind: pressure, temperature or state
 	Took    time.Duration
 	Err     error
 }
@@ -81,7 +82,7 @@ func (p *Probe) Read(ctx context.Context) ProbeResult {
 	} else {
 		r, err = p.g.drv.Read(ctx)
 	}
-	res := ProbeResult{Reading: r, Took: time.Since(start), Err: err}
+	res := ProbeResult{Reading: r, Took: time.Since(start), Err: err, Kind: p.g.cfg.Kind}
 	res.Unit, _ = calib.ParseUnit(p.g.cfg.Unit, gaugeDim(p.g.cfg.Kind))
 	if err == nil {
 		res.Sample, _ = p.d.sample(p.g, r)

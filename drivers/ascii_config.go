@@ -149,9 +149,7 @@ func (o ASCIIOptions) compileStep(s Step, path string, addr []byte) (asciiStep, 
 	} else if n == 1 {
 		st.csAt = bytes.Index(send, []byte("{cs}"))
 		send = bytes.Replace(send, []byte("{cs}"), nil, 1)
-		if o.Checksum == nil {
-			errs = append(errs, fmt.Errorf("%s.send: uses {cs} but no checksum is configured", path))
-		} else if o.Checksum.Skip > st.csAt {
+		if o.Checksum != nil && o.Checksum.Skip > st.csAt {
 			errs = append(errs, fmt.Errorf("%s.send: checksum.skip %d is past {cs} at byte %d", path, o.Checksum.Skip, st.csAt))
 		}
 	}
@@ -195,9 +193,6 @@ func (o ASCIIOptions) compileExpect(st *asciiStep, expect, path string, addr []b
 	if st.status >= 0 && st.value < 0 {
 		errs = append(errs, fmt.Errorf("%s.expect: has a status group but no (?P<value>...) group", path))
 	}
-	if st.checksum >= 0 && o.Checksum == nil {
-		errs = append(errs, fmt.Errorf("%s.expect: has a (?P<cs>...) group but no checksum is configured", path))
-	}
 	return errs
 }
 
@@ -205,7 +200,14 @@ func (o ASCIIOptions) compileExpect(st *asciiStep, expect, path string, addr []b
 func (o ASCIIOptions) checkWhole(steps []asciiStep) []error {
 	var errs []error
 	values, statuses, sums := 0, 0, 0
-	for _, st := range steps {
+	var usesCS []string // what uses a checksum, for one problem when none is configured
+	for i, st := range steps {
+		if st.csAt >= 0 {
+			usesCS = append(usesCS, fmt.Sprintf("exchange[%d].send sends {cs}", i))
+		}
+		if st.re != nil && st.checksum >= 0 {
+			usesCS = append(usesCS, fmt.Sprintf("exchange[%d].expect captures (?P<cs>...)", i))
+		}
 		if st.re != nil && st.value >= 0 {
 			values++
 		}
@@ -221,6 +223,15 @@ func (o ASCIIOptions) checkWhole(steps []asciiStep) []error {
 	}
 	if statuses > 0 && len(o.Status) == 0 {
 		errs = append(errs, errors.New(`status: the reply has a status group; map its codes, e.g. {fine: ok, low: under-range, high: over-range}`))
+	}
+	if o.Checksum == nil && len(usesCS) > 0 {
+		// One missing setting is one problem, however many steps use it.
+		first, what, _ := strings.Cut(usesCS[0], " ")
+		msg := what
+		for _, u := range usesCS[1:] {
+			msg += ", and " + u
+		}
+		errs = append(errs, fmt.Errorf("%s: %s, but no checksum is configured; add one to the gauge, e.g. checksum: {kind: xor8}", first, msg))
 	}
 	if o.Checksum != nil && sums == 0 {
 		errs = append(errs, errors.New("checksum: set, but no step sends {cs} or captures (?P<cs>...)"))

@@ -44,7 +44,7 @@ func TestASCIIOptionsReportEveryProblem(t *testing.T) {
 	wantProblems(t, "addr without address", drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "{addr}ASK", Expect: `(?P<value>.+)`}}}.Validate(),
 		"exchange[0].send: uses {addr} but no address is set")
 	wantProblems(t, "cs without checksum", drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "ASK{cs}", Expect: `(?P<value>.+)(?P<cs>..)`}}}.Validate(),
-		"exchange[0].send: uses {cs} but no checksum", "exchange[0].expect: has a (?P<cs>...) group but no checksum")
+		"exchange[0].send: sends {cs}, and exchange[0].expect captures (?P<cs>...), but no checksum is configured")
 	wantProblems(t, "unused checksum", drivers.ASCIIOptions{Steps: []drivers.Step{{Send: "ASK", Expect: `(?P<value>.+)`}},
 		Checksum: &drivers.Checksum{Kind: "xor8"}}.Validate(), "checksum: set, but no step")
 }

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strconv"
 	"strings"
 )
 
@@ -53,11 +54,23 @@ func DecodeRegisters(regs []uint16, typ string, lowWordFirst bool) (float64, err
 	case "uint32":
 		return float64(u), nil
 	}
-	f := float64(math.Float32frombits(u))
-	if math.IsNaN(f) || math.IsInf(f, 0) {
-		return 0, fmt.Errorf("registers %04X %04X hold a float32 %v: %w", regs[0], regs[1], f, errNotMeasurement)
+	f32 := math.Float32frombits(u)
+	if math.IsNaN(float64(f32)) || math.IsInf(float64(f32), 0) {
+		return 0, fmt.Errorf("registers %04X %04X hold a float32 %v: %w", regs[0], regs[1], f32, errNotMeasurement)
 	}
-	return f, nil
+	return shortestFloat32(f32), nil
+}
+
+// shortestFloat32 widens f to the float64 nearest the shortest decimal that
+// reads back as f: a register holding 21.1 gives 21.1, not the binary32's
+// exact value 21.100000381469727, so stored raws, metrics and probe output
+// carry the digits the instrument meant. float32(result) == f always.
+func shortestFloat32(f float32) float64 {
+	v, err := strconv.ParseFloat(strconv.FormatFloat(float64(f), 'g', -1, 32), 64)
+	if err != nil { // cannot happen for a finite f; keep the exact value
+		return float64(f)
+	}
+	return v
 }
 
 // errNotMeasurement marks a float32 NaN or infinity: the instrument has no

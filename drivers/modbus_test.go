@@ -120,7 +120,7 @@ func TestModbusTCP(t *testing.T) {
 		mo   ModbusOptions
 		want float64
 	}{
-		{"float32", ModbusOptions{Table: "holding", Address: 10, Type: "float32"}, float64(float32(2.5e-3))},
+		{"float32", ModbusOptions{Table: "holding", Address: 10, Type: "float32"}, 2.5e-3}, // shortest decimal of the float32, not its binary expansion
 		{"int16 scaled", ModbusOptions{Table: "input", Address: 0, Type: "int16", Scale: 0.1, Offset: 1}, -19},
 		{"uint32 low first", ModbusOptions{Table: "holding", Address: 20, Type: "uint32", WordOrder: "low-first"}, 0x00020001},
 		{"discrete", ModbusOptions{Table: "discrete", Address: 3}, 1},

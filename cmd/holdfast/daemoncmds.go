@@ -7,8 +7,6 @@ import (
 	"io"
 	"log"
 	"log/slog"
-	"runtime/debug"
-	"strings"
 
 	"holdfast/daemon"
 )
@@ -107,20 +105,6 @@ func cmdVersion(ctx context.Context, args []string, stdout, stderr io.Writer) er
 	if err := fs.Parse(args); err != nil {
 		return err
 	}
-	fmt.Fprintf(stdout, "holdfast %s\n", buildVersion())
+	fmt.Fprintf(stdout, "holdfast %s\n", daemon.ReadBuild())
 	return nil
-}
-
-func buildVersion() string {
-	bi, ok := debug.ReadBuildInfo()
-	if !ok {
-		return "(unknown)"
-	}
-	v := bi.Main.Version
-	for _, s := range bi.Settings {
-		if s.Key == "vcs.revision" && len(s.Value) >= 12 {
-			v += " " + s.Value[:12]
-		}
-	}
-	return strings.TrimSpace(v + " " + bi.GoVersion)
 }

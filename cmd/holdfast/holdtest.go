@@ -63,9 +63,15 @@ func cmdHoldTest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 			return err
 		}
 		if *svg != "" {
-			if err := saveSVG(ctx, api, id, *svg); err != nil {
+			n, err := saveSVG(ctx, api, id, *svg)
+			if err != nil {
 				return err
 			}
+			w := stdout
+			if *asJSON { // keep stdout pure JSON
+				w = stderr
+			}
+			fmt.Fprintf(w, "wrote the plot of hold test %s to %s (%d bytes)\n", id, *svg, n)
 		}
 		if *asJSON {
 			return writeIndented(stdout, h)
@@ -111,27 +117,28 @@ func printHoldEvidence(w io.Writer, h daemon.HoldTestJSON) {
 	}
 }
 
-func saveSVG(ctx context.Context, api *apiClient, id, file string) error {
+// saveSVG writes hold test id's plot to file and returns its size in bytes.
+func saveSVG(ctx context.Context, api *apiClient, id, file string) (int, error) {
 	req, err := http.NewRequestWithContext(ctx, "GET", strings.TrimRight(api.base, "/")+"/api/v1/holdtests/"+url.PathEscape(id)+"/rise.svg", nil)
 	if err != nil {
-		return fmt.Errorf("--daemon %q: %w", api.base, err)
+		return 0, fmt.Errorf("--daemon %q: %w", api.base, err)
 	}
 	resp, err := api.http.Do(req)
 	if err != nil {
-		return err
+		return 0, err
 	}
 	defer resp.Body.Close()
 	b, err := io.ReadAll(io.LimitReader(resp.Body, 16<<20))
 	if err != nil {
-		return err
+		return 0, err
 	}
 	if resp.StatusCode != http.StatusOK {
-		return fmt.Errorf("daemon: hold test %s has no plot (%s)", id, resp.Status)
+		return 0, fmt.Errorf("daemon: hold test %s has no plot (%s)", id, resp.Status)
 	}
 	if err := os.WriteFile(file, b, 0o644); err != nil {
-		return fmt.Errorf("--svg: %w", err)
+		return 0, fmt.Errorf("--svg: %w", err)
 	}
-	return nil
+	return len(b), nil
 }
 
 func writeIndented(w io.Writer, v any) error {

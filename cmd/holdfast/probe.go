@@ -114,6 +114,20 @@ func printResult(w io.Writer, res daemon.ProbeResult) {
 	val := res.Sample.Quality.String()
 	if res.Sample.Quality == calib.QualityOK {
 		val = calib.Format(res.Sample.Value, res.Unit)
+		if res.Kind == "state" { // a digital input has no unit: name the state
+			val = stateWord(res.Sample.Value)
+		}
 	}
 	fmt.Fprintf(w, "  raw %g, status %s -> %s   (%.1f ms)\n", res.Reading.Raw, res.Reading.Status, val, ms)
+}
+
+// stateWord names a digital input's value the way configs do (on, off).
+func stateWord(v float64) string {
+	switch v {
+	case 1:
+		return "on (1)"
+	case 0:
+		return "off (0)"
+	}
+	return fmt.Sprintf("%g (neither on nor off)", v)
 }

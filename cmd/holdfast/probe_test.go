@@ -7,6 +7,10 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"holdfast/calib"
+	"holdfast/daemon"
+	"holdfast/drivers"
 )
 
 // probe on a simulated gauge runs its exchanges and prints each value.
@@ -30,6 +34,22 @@ gauges:
 	err = run(context.Background(), []string{"probe", "--config", cfg, "--gauge", "nope"}, &out, &errOut)
 	if err == nil || !strings.Contains(err.Error(), `no gauge "nope"`) {
 		t.Errorf("unknown gauge: err %v", err)
+	}
+}
+
+// A state gauge (a digital input) prints its state, not a unit conversion's
+// NaN: a discrete input read as 1 is "on", as in the configs' on/off.
+func TestPrintResultState(t *testing.T) {
+	for v, want := range map[float64]string{1: "-> on (1)", 0: "-> off (0)"} {
+		var out bytes.Buffer
+		printResult(&out, daemon.ProbeResult{
+			Reading: drivers.Reading{Raw: v, Status: drivers.StatusOK},
+			Sample:  calib.Sample{Raw: v, Value: v, Quality: calib.QualityOK},
+			Kind:    "state",
+		})
+		if !strings.Contains(out.String(), want) || strings.Contains(out.String(), "NaN") {
+			t.Errorf("state %g printed %q, want %q", v, out.String(), want)
+		}
 	}
 }
 
