@@ -288,3 +288,23 @@ func containsAll(s string, subs []string) bool {
 	}
 	return true
 }
+
+// The RS-485 example: simulate with --address 07 --checksum serves
+// pty-sim.yaml and rs485-sim.yaml reads it, address and checksum both ways.
+func TestSimulateServesRS485Example(t *testing.T) {
+	dev := filepath.Join(t.TempDir(), "holdfast-sim")
+	out := startSimulate(t, dev, "--config", example("pty-sim.yaml"), "--address", "07", "--checksum")
+	// The xor8 of the bytes "TO 07 READ 1 ~" is 0x41, by hand: 54^4F=1B,
+	// ^20=3B, ^30=0B, ^37=3C, ^20=1C, ^52=4E, ^45=0B, ^41=4A, ^44=0E,
+	// ^20=2E, ^31=1F, ^20=3F, ^7E=41 (checked with Python's functools.reduce).
+	if !strings.Contains(out.String(), `"TO 07 READ 1 ~41\r" -> "FROM 07 CH1 `) {
+		t.Errorf("banner lacks the addressed, checksummed exchange:\n%s", out)
+	}
+	// Near atmosphere the CDG (10 Torr) is over-range; the wall is at 21 °C.
+	if res := probeExample(t, "rs485-sim.yaml", dev, "lock-cdg"); res.Err != nil || res.Reading.Status != drivers.StatusOverRange {
+		t.Errorf("lock-cdg: reading %+v, err %v; want over-range", res.Reading, res.Err)
+	}
+	if res := probeExample(t, "rs485-sim.yaml", dev, "lock-wall"); res.Err != nil || math.Abs(res.Sample.Value-21) > 1.5 {
+		t.Errorf("lock-wall: %+v, err %v; want about 21 °C", res.Sample, res.Err)
+	}
+}
