@@ -203,3 +203,21 @@ func TestEngineWaitsForAttach(t *testing.T) {
 		t.Error("ack before Attach succeeded")
 	}
 }
+
+// A condition already true at the first sample (the chamber at atmosphere
+// when watching starts) runs the on-delay but is no limit-crossed news; a
+// later crossing is, and the alarm still raises when the delay runs out.
+func TestNoCrossingNewsForTheFirstSample(t *testing.T) {
+	e := started(t, limitAlarm(time.Minute, 0, 0))
+	if evs := e.Observe("chamber", pa(12, 0)); len(evs) != 0 {
+		t.Errorf("first sample above the limit: events %q, want none", kinds(evs))
+	}
+	if evs := e.Observe("chamber", pa(12, 61)); !slices.ContainsFunc(evs, func(ev Event) bool { return ev.Kind == Raised }) {
+		t.Errorf("still above after the 1 min on-delay: events %q, want a raise", kinds(evs))
+	}
+	e = started(t, limitAlarm(time.Minute, 0, 0))
+	e.Observe("chamber", pa(5, 0))
+	if evs := e.Observe("chamber", pa(12, 10)); len(evs) != 1 || evs[0].Kind != LimitCrossed {
+		t.Errorf("a crossing after a normal sample: events %q, want one limit-crossed", kinds(evs))
+	}
+}

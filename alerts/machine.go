@@ -81,6 +81,7 @@ type alarmState struct {
 	s     Saved
 	last  Condition
 	dirty bool
+	seen  bool // a known condition has been fed since the engine started
 }
 
 func newAlarmState(a *Alarm) *alarmState {
@@ -103,6 +104,11 @@ func (st *alarmState) apply(c Condition, at time.Time, evs []Event) []Event {
 		return evs
 	}
 	st.last = c
+	// Watching that begins with the condition already true (a chamber
+	// at atmosphere when the pump-down rule starts) is not a crossing: the
+	// on-delay runs, but no limit-crossed news is given for it.
+	first := !st.seen
+	st.seen = true
 	if c.Active == st.s.Active {
 		if st.s.Pending {
 			st.s.Pending, st.dirty = false, true
@@ -111,7 +117,7 @@ func (st *alarmState) apply(c Condition, at time.Time, evs []Event) []Event {
 	}
 	if !st.s.Pending {
 		st.s.Pending, st.s.PendingSince, st.dirty = true, at, true
-		if c.Active && st.a.OnDelay > 0 && !st.s.hidden() {
+		if c.Active && st.a.OnDelay > 0 && !st.s.hidden() && !first {
 			evs = append(evs, Event{Kind: LimitCrossed, Alarm: st.a.Name, Gauge: st.a.Gauge, Severity: st.a.Severity,
 				At: at, Message: st.a.Gauge + " " + c.Detail, State: st.s.State(), Value: c.Value, Limit: c.Limit, Unit: c.Unit,
 				Occurrence: st.s.Occurrence, Seq: st.s.Seq})
