@@ -179,7 +179,7 @@ func (v *checker) holdSchedule(path string, h *HoldTestConfig) {
 		long += h.Valve.Travel.D()
 	}
 	v.expect(s.Every <= 0 || s.Every.D() > long, path+".every", "a hold test here takes %s (valve travel, settle and duration); runs every %s would overlap",
-		long, s.Every.D())
+		shortDuration(long), shortDuration(s.Every.D()))
 	v.expect(h.Valve != nil || h.Confirm != "", path,
 		"a scheduled hold test needs a valve (a Modbus coil) or confirm (a switch that says the chamber was isolated): no one is there to close the valve")
 }

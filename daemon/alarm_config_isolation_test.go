@@ -60,7 +60,7 @@ func TestIsolationConfigProblems(t *testing.T) {
 		`iso.yaml:23: alarms[2].hold_test.schedule.at: want a local time of day such as "03:00"`,
 		"iso.yaml:26: alarms[3].hold_test: gauge ion already has a hold_test alarm at alarms[2]",
 		"alarms[3].hold_test.valve.link: link spare carries no gauge",
-		"alarms[3].hold_test.schedule.every: a hold test here takes 12m0s",
+		"alarms[3].hold_test.schedule.every: a hold test here takes 12m",
 		"iso.yaml:32: alarms[4].rise_watch", // the path yaml.v3's line points at
 		`while: unknown key "invert"`,
 	} {

@@ -60,8 +60,8 @@ func (v *checker) shelving(c *ShelvingConfig) {
 	if c.Max == 0 {
 		c.Max = Duration(max(alerts.DefaultShelfLimits.Max, c.Default.D()))
 	}
-	v.expect(c.Default > 0, "shelving.default", "must be a positive duration such as 8h, got %s", c.Default.D())
-	v.expect(c.Max >= c.Default, "shelving.max", "must be at least shelving.default (%s), got %s", c.Default.D(), c.Max.D())
+	v.expect(c.Default > 0, "shelving.default", "must be a positive duration such as 8h, got %s", shortDuration(c.Default.D()))
+	v.expect(c.Max >= c.Default, "shelving.max", "must be at least shelving.default (%s), got %s", shortDuration(c.Default.D()), shortDuration(c.Max.D()))
 }
 
 // ChatterConfig says when an alarm counts as chattering: Count raises within Window.

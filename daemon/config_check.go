@@ -50,6 +50,20 @@ func (v *checker) problem(path, format string, a ...any) {
 	v.probs = append(v.probs, Problem{Line: v.line(path), Path: path, Msg: fmt.Sprintf(format, a...)})
 }
 
+// shortDuration is d as a config would say it: time.Duration's form less
+// trailing zero units, so 8h0m0s is 8h, 1h30m0s is 1h30m and 2m0s is 2m;
+// 1.5s, 250ms and 1h0m0.5s stay as they are.
+func shortDuration(d time.Duration) string {
+	s := d.String()
+	if strings.HasSuffix(s, "m0s") {
+		s = strings.TrimSuffix(s, "0s")
+	}
+	if strings.HasSuffix(s, "h0m") {
+		s = strings.TrimSuffix(s, "0m")
+	}
+	return s
+}
+
 func (v *checker) expect(ok bool, path, format string, a ...any) {
 	if !ok {
 		v.problem(path, format, a...)
@@ -75,12 +89,12 @@ func check(cfg *Config, prior []Problem) []Problem {
 	}
 	v.expect(cfg.Store.Dir != "", "store.dir", "missing; say where samples are kept, e.g. dir: /var/lib/holdfast")
 	v.expect(cfg.Store.Retention == 0 || cfg.Store.Retention.D() >= 24*time.Hour, "store.retention",
-		"keep at least a day of samples (e.g. retention: 30d), got %s", cfg.Store.Retention.D())
+		"keep at least a day of samples (e.g. retention: 30d), got %s", shortDuration(cfg.Store.Retention.D()))
 	if cfg.Store.FlushEvery == 0 {
 		cfg.Store.FlushEvery = Duration(defaultFlushEvery)
 	}
 	v.expect(cfg.Store.Resolution == 0 || store.CheckResolution(cfg.Store.Resolution.D()) == nil, "store.resolution",
-		"want a time step that divides 1s evenly, from 1ns to 1s (e.g. resolution: 1ms), got %s", cfg.Store.Resolution.D())
+		"want a time step that divides 1s evenly, from 1ns to 1s (e.g. resolution: 1ms), got %s", shortDuration(cfg.Store.Resolution.D()))
 	v.expect(len(cfg.Links) > 0, "links", "no links; define at least one (serial, tcp, modbus_rtu, modbus_tcp or simulator)")
 	for _, name := range sortedKeys(cfg.Links) {
 		v.link(name, cfg.Links[name])
@@ -233,7 +247,7 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 	if g.Interval == 0 {
 		g.Interval = Duration(defaultInterval)
 	}
-	v.expect(g.Interval.D() >= minInterval, path+".interval", "must be at least %s, got %s", minInterval, g.Interval.D())
+	v.expect(g.Interval.D() >= minInterval, path+".interval", "must be at least %s, got %s", shortDuration(minInterval), shortDuration(g.Interval.D()))
 	if g.Timeout == 0 {
 		g.Timeout = Duration(min(g.Interval.D(), 2*time.Second))
 	}

@@ -142,7 +142,7 @@ func (v *checker) notifier(path string, n *NotifyConfig, i int) {
 		if n.Alertmanager.ResendEvery == 0 {
 			n.Alertmanager.ResendEvery = Duration(defaultAMResend)
 		}
-		v.expect(n.Alertmanager.ResendEvery.D() >= time.Second, path+".alertmanager.resend_every", "must be at least 1s, got %s", n.Alertmanager.ResendEvery.D())
+		v.expect(n.Alertmanager.ResendEvery.D() >= time.Second, path+".alertmanager.resend_every", "must be at least 1s, got %s", shortDuration(n.Alertmanager.ResendEvery.D()))
 		v.expect(n.RemindEvery == 0, path+".remind_every", "Alertmanager repeats notifications itself (its route's repeat_interval); remove remind_every here")
 	case n.Mail != nil:
 		v.mail(path+".mail", n.Mail)
@@ -160,17 +160,17 @@ func (v *checker) common(path string, n *NotifyConfig) {
 		gw := Duration(defaultGroupWait)
 		n.GroupWait = &gw
 	}
-	v.expect(*n.GroupWait >= 0 && n.GroupWait.D() <= maxGroupWait, path+".group_wait", "want 0 to %s, got %s", maxGroupWait, n.GroupWait.D())
-	v.expect(n.RemindEvery == 0 || n.RemindEvery.D() >= minRemind, path+".remind_every", "want at least %s, or leave it out for no reminders; got %s", minRemind, n.RemindEvery.D())
+	v.expect(*n.GroupWait >= 0 && n.GroupWait.D() <= maxGroupWait, path+".group_wait", "want 0 to %s, got %s", shortDuration(maxGroupWait), shortDuration(n.GroupWait.D()))
+	v.expect(n.RemindEvery == 0 || n.RemindEvery.D() >= minRemind, path+".remind_every", "want at least %s, or leave it out for no reminders; got %s", shortDuration(minRemind), shortDuration(n.RemindEvery.D()))
 	if n.Timeout == 0 {
 		n.Timeout = Duration(defaultSendTimeout)
 		if n.Exec != nil {
 			n.Timeout = Duration(notify.DefaultExecTimeout)
 		}
 	}
-	v.expect(n.Timeout > 0, path+".timeout", "must be positive, got %s", n.Timeout.D())
-	v.expect(n.Retry.Min == 0 || n.Retry.Min.D() >= minRetry, path+".retry.min", "want at least %s, got %s", minRetry, n.Retry.Min.D())
-	v.expect(n.Retry.Max == 0 || n.Retry.Max >= n.Retry.Min, path+".retry.max", "must not be less than retry.min (%s), got %s", n.Retry.Min.D(), n.Retry.Max.D())
+	v.expect(n.Timeout > 0, path+".timeout", "must be positive, got %s", shortDuration(n.Timeout.D()))
+	v.expect(n.Retry.Min == 0 || n.Retry.Min.D() >= minRetry, path+".retry.min", "want at least %s, got %s", shortDuration(minRetry), shortDuration(n.Retry.Min.D()))
+	v.expect(n.Retry.Max == 0 || n.Retry.Max >= n.Retry.Min, path+".retry.max", "must not be less than retry.min (%s), got %s", shortDuration(n.Retry.Min.D()), shortDuration(n.Retry.Max.D()))
 }
 
 func (v *checker) httpURL(path, raw string) {

@@ -113,7 +113,7 @@ notify:
 		`notify[3].mail: give username and password_file (or password_credential) together, or neither`,
 		`notify.yaml:21: notify[4].exec.command: want an absolute path`,
 		`notify.yaml:22: notify[4].min_severity: want one of low, medium, high, critical, got "urgent"`,
-		`notify.yaml:23: notify[4].group_wait: want 0 to 10m0s, got 1h0m0s`,
+		`notify.yaml:23: notify[4].group_wait: want 0 to 10m, got 1h`,
 		`notify.yaml:24: notify[4].retry.min: want at least 10ms, got 1ms`,
 		`notify[5].webhook.secret_file: ` + dir + `/empty.key is empty`,
 		`notify.yaml:26: notify[5].colour: unknown key "colour"`,

@@ -3,6 +3,7 @@ package daemon
 import (
 	"strings"
 	"testing"
+	"time"
 )
 
 // One mistake is one problem line: a gauge whose exchange sends {cs} and
@@ -34,5 +35,18 @@ gauges:
 	}
 	if !strings.HasPrefix(msg, "once.yaml:10: gauges.lock.exchange[0].send:") || !strings.Contains(msg, "exchange[0].expect captures (?P<cs>...)") {
 		t.Errorf("problem should name the step's send and expect:\n%s", msg)
+	}
+}
+
+// Durations in config messages read as a config would write them. Expected
+// strings by hand from time.Duration's documented form (8h0m0s for 8 h).
+func TestShortDuration(t *testing.T) {
+	for d, want := range map[time.Duration]string{
+		8 * time.Hour: "8h", 90 * time.Minute: "1h30m", 2 * time.Minute: "2m", 90 * time.Second: "1m30s",
+		1500 * time.Millisecond: "1.5s", 250 * time.Millisecond: "250ms", time.Hour + 500*time.Millisecond: "1h0m0.5s", 0: "0s",
+	} {
+		if got := shortDuration(d); got != want {
+			t.Errorf("shortDuration(%v) = %q, want %q", d, got, want)
+		}
 	}
 }

@@ -52,7 +52,7 @@ func (v *checker) remoteWrite(r *RemoteWriteConfig) {
 	if r.Every == 0 {
 		r.Every = Duration(defaultRemoteEvery)
 	}
-	v.expect(r.Every.D() >= minRemoteEvery, p+".every", "want at least %s, such as every: 15s, got %s", minRemoteEvery, r.Every.D())
+	v.expect(r.Every.D() >= minRemoteEvery, p+".every", "want at least %s, such as every: 15s, got %s", shortDuration(minRemoteEvery), shortDuration(r.Every.D()))
 	if r.Batch == 0 {
 		r.Batch = defaultRemoteBatch
 	}
@@ -60,16 +60,16 @@ func (v *checker) remoteWrite(r *RemoteWriteConfig) {
 	if r.Timeout == 0 {
 		r.Timeout = Duration(defaultRemoteTimeout)
 	}
-	v.expect(r.Timeout > 0, p+".timeout", "must be positive, got %s", r.Timeout.D())
-	v.expect(r.Backfill >= 0, p+".backfill", "must not be negative, got %s", r.Backfill.D())
+	v.expect(r.Timeout > 0, p+".timeout", "must be positive, got %s", shortDuration(r.Timeout.D()))
+	v.expect(r.Backfill >= 0, p+".backfill", "must not be negative, got %s", shortDuration(r.Backfill.D()))
 	if r.Retry.Min == 0 {
 		r.Retry.Min = Duration(defaultRemoteRetryMin)
 	}
 	if r.Retry.Max == 0 {
 		r.Retry.Max = Duration(max(defaultRemoteRetryMax, r.Retry.Min.D()))
 	}
-	v.expect(r.Retry.Min.D() >= minRetry, p+".retry.min", "want at least %s, got %s", minRetry, r.Retry.Min.D())
-	v.expect(r.Retry.Max >= r.Retry.Min, p+".retry.max", "must not be less than retry.min (%s), got %s", r.Retry.Min.D(), r.Retry.Max.D())
+	v.expect(r.Retry.Min.D() >= minRetry, p+".retry.min", "want at least %s, got %s", shortDuration(minRetry), shortDuration(r.Retry.Min.D()))
+	v.expect(r.Retry.Max >= r.Retry.Min, p+".retry.max", "must not be less than retry.min (%s), got %s", shortDuration(r.Retry.Min.D()), shortDuration(r.Retry.Max.D()))
 	v.remoteToken(r)
 	if r.Labels == nil {
 		r.Labels = map[string]string{}
