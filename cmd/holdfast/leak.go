@@ -223,13 +223,23 @@ func writeLeakText(w io.Writer, rep leakReport, in leakInputs) error {
 	fmt.Fprintf(&b, "classification  %s: %s\n", res.Classification, res.Reason)
 	if res.Fit.Model != alerts.ModelNone {
 		si := calib.Throughput.Base()
-		fmt.Fprintf(&b, "leak rate       %s (± standard uncertainty)\n", withUnc(res.LeakRate, res.LeakRateUncertainty, si))
 		units := []calib.Unit{mustUnit("mbar*L/s", calib.Throughput)}
 		if in.leakUnit != si && in.leakUnit != units[0] {
 			units = append(units, in.leakUnit)
 		}
-		for _, u := range units {
-			fmt.Fprintf(&b, "                %s\n", withUnc(res.LeakRate, res.LeakRateUncertainty, u))
+		if res.LeakRate <= 0 || res.UpperBoundOnly {
+			// A fitted leak term at or below zero, or one the outgassing
+			// hides, is no finding: only its upper bound is evidence.
+			fmt.Fprintf(&b, "leak rate       no leak found, below %s (upper bound: V·(dp/dt at the end + %g u))\n",
+				calib.Format(res.LeakUpperBound, si), res.CoverageFactor)
+			for _, u := range units {
+				fmt.Fprintf(&b, "                below %s\n", calib.Format(res.LeakUpperBound, u))
+			}
+		} else {
+			fmt.Fprintf(&b, "leak rate       %s (± standard uncertainty)\n", withUnc(res.LeakRate, res.LeakRateUncertainty, si))
+			for _, u := range units {
+				fmt.Fprintf(&b, "                %s\n", withUnc(res.LeakRate, res.LeakRateUncertainty, u))
+			}
 		}
 		if res.Fit.Model == alerts.ModelCurved {
 			fmt.Fprintf(&b, "outgassing      %s at the start of the record\n",

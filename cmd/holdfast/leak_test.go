@@ -191,3 +191,27 @@ func TestLeakCommandNeedsAUnit(t *testing.T) {
 		t.Errorf("header mbar, --unit Pa: error %v, want the disagreement named", err)
 	}
 }
+
+// A record that falls slowly (still pumped, or a gauge drifting down) has
+// a fitted leak term below zero: that is no finding, and the text says "no
+// leak found, below" its upper bound instead of printing a negative rate.
+// The record: 1.000e-3 mbar falling 1e-7 mbar/s over 600 s, 61 points.
+func TestLeakCommandNegativeRateIsNoFinding(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("time_s,pressure_mbar\n")
+	for i := 0; i <= 60; i++ {
+		s := float64(10 * i)
+		fmt.Fprintf(&b, "%g,%.6g\n", s, 1e-3-1e-7*s)
+	}
+	path := filepath.Join(t.TempDir(), "falling.csv")
+	if err := os.WriteFile(path, []byte(b.String()), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	out, errOut, err := leakRun(t, "--rise", path, "--volume", "30L")
+	if err != nil {
+		t.Fatalf("%v (stderr %q)", err, errOut)
+	}
+	if !strings.Contains(out, "no leak found, below") || strings.Contains(out, "leak rate       -") {
+		t.Errorf("a falling record's text should say no leak found, below its bound:\n%s", out)
+	}
+}
