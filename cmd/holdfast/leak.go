@@ -227,7 +227,10 @@ func writeLeakText(w io.Writer, rep leakReport, in leakInputs) error {
 		if in.leakUnit != si && in.leakUnit != units[0] {
 			units = append(units, in.leakUnit)
 		}
-		if res.LeakRate <= 0 || res.UpperBoundOnly {
+		switch {
+		case res.LeakUpperBound <= 0:
+			fmt.Fprintf(&b, "leak rate       no leak found: the pressure does not rise\n")
+		case res.LeakRate <= 0 || res.UpperBoundOnly:
 			// A fitted leak term at or below zero, or one the outgassing
 			// hides, is no finding: only its upper bound is evidence.
 			fmt.Fprintf(&b, "leak rate       no leak found, below %s (upper bound: V·(dp/dt at the end + %g u))\n",
@@ -235,7 +238,7 @@ func writeLeakText(w io.Writer, rep leakReport, in leakInputs) error {
 			for _, u := range units {
 				fmt.Fprintf(&b, "                below %s\n", calib.Format(res.LeakUpperBound, u))
 			}
-		} else {
+		default:
 			fmt.Fprintf(&b, "leak rate       %s (± standard uncertainty)\n", withUnc(res.LeakRate, res.LeakRateUncertainty, si))
 			for _, u := range units {
 				fmt.Fprintf(&b, "                %s\n", withUnc(res.LeakRate, res.LeakRateUncertainty, u))
