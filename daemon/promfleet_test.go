@@ -1,11 +1,9 @@
 package daemon
 
 import (
-	"context"
 	"encoding/json"
 	"net/http"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"regexp"
 	"slices"
@@ -21,25 +19,11 @@ import (
 // The fleet files are checked by promtool: the scrape config (with the
 // rule files it names), the recording rules, and their unit tests.
 func TestPrometheusFleetFiles(t *testing.T) {
-	promtool, err := exec.LookPath("promtool")
-	if err != nil {
-		t.Skip("promtool not on PATH (Debian: apt-get install prometheus); the fleet files are not checked")
-	}
+	runPromtool(t, "the fleet files are not checked",
+		[]string{"check", "config", "fleet-scrape.yml"},
+		[]string{"check", "rules", "holdfast-fleet-rules.yml"},
+		[]string{"test", "rules", "holdfast-fleet-rules-test.yml"})
 	dir := filepath.Join("..", "deploy", "prometheus")
-	for _, args := range [][]string{
-		{"check", "config", "fleet-scrape.yml"},
-		{"check", "rules", "holdfast-fleet-rules.yml"},
-		{"test", "rules", "holdfast-fleet-rules-test.yml"},
-	} {
-		ctx, cancel := context.WithTimeout(t.Context(), time.Minute)
-		cmd := exec.CommandContext(ctx, promtool, args...)
-		cmd.Dir = dir
-		out, err := cmd.CombinedOutput()
-		cancel()
-		if err != nil {
-			t.Errorf("promtool %v: %v\n%s", args, err, out)
-		}
-	}
 	var targets []struct {
 		Targets []string
 		Labels  map[string]string

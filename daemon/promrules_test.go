@@ -17,15 +17,22 @@ import (
 // (holdfast-rules-test.yml: each rule firing and not firing). CI installs
 // promtool (.ci/run); elsewhere the test skips when it is not on PATH.
 func TestPrometheusRules(t *testing.T) {
+	runPromtool(t, "the rules are not checked",
+		[]string{"check", "rules", "holdfast-rules.yml"},
+		[]string{"test", "rules", "holdfast-rules-test.yml"})
+}
+
+// runPromtool runs promtool in deploy/prometheus once per argument list and
+// fails the test on any failure; without promtool on PATH it skips, saying
+// what goes unchecked.
+func runPromtool(t *testing.T, unchecked string, argsets ...[]string) {
+	t.Helper()
 	promtool, err := exec.LookPath("promtool")
 	if err != nil {
-		t.Skip("promtool not on PATH (Debian: apt-get install prometheus); the rules are not checked")
+		t.Skip("promtool not on PATH (Debian: apt-get install prometheus); " + unchecked)
 	}
 	dir := filepath.Join("..", "deploy", "prometheus")
-	for _, args := range [][]string{
-		{"check", "rules", "holdfast-rules.yml"},
-		{"test", "rules", "holdfast-rules-test.yml"},
-	} {
+	for _, args := range argsets {
 		ctx, cancel := context.WithTimeout(t.Context(), time.Minute)
 		cmd := exec.CommandContext(ctx, promtool, args...)
 		cmd.Dir = dir
