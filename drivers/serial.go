@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"log/slog"
+	"os"
 	"time"
 
 	"go.bug.st/serial"
@@ -56,11 +57,18 @@ func openSerialPort(cfg SerialConfig, mode *serial.Mode) (port, error) {
 			return nil, fmt.Errorf("rs485: %w", err)
 		}
 	}
+	lock, err := lockPort(cfg.Device)
+	if err != nil {
+		return nil, fmt.Errorf("open %s: %w", cfg.Device, err)
+	}
 	p, err := serial.Open(cfg.Device, mode)
 	if err != nil {
+		if lock != nil {
+			lock.Close()
+		}
 		return nil, explainOpen(cfg.Device, err)
 	}
-	return &serialPort{p: p}, nil
+	return &serialPort{p: p, lock: lock}, nil
 }
 
 // explainOpen adds the usual remedy to the errors people meet when opening a port.
@@ -79,12 +87,19 @@ func explainOpen(device string, err error) error {
 
 type serialPort struct {
 	p    serial.Port
+	lock *os.File      // holds the advisory lock on the device; nil where there is none
 	wait time.Duration // the read timeout last set
 }
 
 func (s *serialPort) Write(b []byte) (int, error) { return s.p.Write(b) }
-func (s *serialPort) Close() error                { return s.p.Close() }
-func (s *serialPort) discard() error              { return s.p.ResetInputBuffer() }
+func (s *serialPort) Close() error {
+	err := s.p.Close()
+	if s.lock != nil {
+		err = errors.Join(err, s.lock.Close())
+	}
+	return err
+}
+func (s *serialPort) discard() error { return s.p.ResetInputBuffer() }
 
 // readSome relies on go.bug.st/serial returning (0, nil) when the read
 // timeout passes with no byte; a hang-up comes back as a PortClosed error.
