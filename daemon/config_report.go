@@ -59,7 +59,7 @@ func (v *checker) report(r *ReportConfig) {
 			r.Every = Duration(24 * time.Hour)
 		}
 	}
-	v.expect(r.Every == 0 || r.Every.D() >= minReportEvery, "report.every", "want at least %s, such as every: 24h, got %s", minReportEvery, r.Every.D())
+	v.expect(r.Every == 0 || r.Every.D() >= minReportEvery, "report.every", "want at least %s, such as every: 24h, got %s", shortDuration(minReportEvery), shortDuration(r.Every.D()))
 	if r.Format == "" {
 		r.Format = "html"
 	}

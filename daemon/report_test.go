@@ -334,7 +334,7 @@ report:
 	}
 	got := ce.Error()
 	for _, want := range []string{
-		`report.yaml:24: report.every: want at least 1m0s`,
+		`report.yaml:24: report.every: want at least 1m`,
 		`report.yaml:25: report.at: want a time of day as HH:MM`,
 		`report.yaml:26: report.format: want one of html, svg, png, pdf, got "gif"`,
 		`report.yaml:27: report.url: want an http:// or https:// URL`,
