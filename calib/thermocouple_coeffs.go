@@ -6,10 +6,8 @@ package calib
 // ITS-90", NIST Monograph 175 (1993), as the NIST ITS-90 Thermocouple
 // Database (NIST SRD 60) distributes them: emf in mV, temperature in °C
 // (ITS-90), reference junction at 0 °C, coefficients from the constant term
-// up. Read in two independent public transcriptions of the database's
-// coefficient file, which agree digit for digit; the tests check every
-// sub-range against printed table values and every inverse against its
-// published error band (REFERENCES.md §9).
+// up. The tests check every sub-range against printed table values and
+// every inverse against its published error band (REFERENCES.md §9).
 
 // tcRange is one sub-range of a reference function E(t) = Σ c_i·t^i.
 type tcRange struct {

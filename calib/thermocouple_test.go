@@ -13,8 +13,8 @@ import (
 //	srd60-T  NIST ITS-90 Thermocouple Database (SRD 60), table for type T,
 //	         srdata.nist.gov/its90/download/type_t.tab (read, C)
 //	srd60-c  the same database's coefficient file, whose inverse-function
-//	         headers print each sub-range's end points in °C and mV (read in
-//	         two public transcriptions, C2; NIST Monograph 175)
+//	         headers print each sub-range's end points in °C and mV (C2;
+//	         NIST Monograph 175)
 //	ref§9    REFERENCES.md §9: values computed from the Monograph 175
 //	         coefficients (C2/D) that match the printed tables as far as
 //	         remembered; the printed table itself not re-read (from memory)

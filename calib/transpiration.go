@@ -40,8 +40,8 @@ func MolecularRatio(gaugeC, chamberC float64) (float64, error) {
 type SetinaGas struct{ A, B, C, Eta, M float64 }
 
 // SetinaGases are the constants by gas. A, B, C: J. Šetina, Metrologia 36
-// (1999) 623, eq. 5, as transcribed in a public script (the paper itself
-// not read; REFERENCES.md §6, C2). Viscosity: CRC Handbook of Chemistry and
+// (1999) 623, eq. 5 (the paper itself not read: from memory; REFERENCES.md
+// §6, C2). Viscosity: CRC Handbook of Chemistry and
 // Physics, "Viscosity of gases" (M. L. Huber and A. H. Harvey), η at 300 K
 // (C); it enters only through the transition pressure p*, so its rise of
 // about 0.2 %/K over a heated gauge's range moves the correction by far
