@@ -1,6 +1,9 @@
 package daemon
 
-import "context"
+import (
+	"context"
+	"testing"
+)
 
 // contextUntil returns a context cancelled when stop is closed.
 func contextUntil(stop <-chan struct{}) (context.Context, context.CancelFunc) {
@@ -13,4 +16,24 @@ func contextUntil(stop <-chan struct{}) (context.Context, context.CancelFunc) {
 		}
 	}()
 	return ctx, cancel
+}
+
+// runInBackground runs d until the returned stop is called; stop waits for
+// Run to return and fails the test on its error.
+func runInBackground(t *testing.T, d *Daemon) (stop func()) {
+	t.Helper()
+	quit := make(chan struct{})
+	done := make(chan error, 1)
+	go func() {
+		ctx, cancel := contextUntil(quit)
+		defer cancel()
+		done <- d.Run(ctx)
+	}()
+	return func() {
+		t.Helper()
+		close(quit)
+		if err := <-done; err != nil {
+			t.Errorf("Run: %v", err)
+		}
+	}
 }

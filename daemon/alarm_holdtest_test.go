@@ -62,19 +62,7 @@ func startHoldDaemon(t *testing.T, leak, outgas string) (*Daemon, string, func()
 	if err != nil {
 		t.Fatal(err)
 	}
-	done := make(chan error, 1)
-	stop := make(chan struct{})
-	go func() {
-		ctx, cancel := contextUntil(stop)
-		defer cancel()
-		done <- d.Run(ctx)
-	}()
-	return d, "a-test-token-of-some-length", func() {
-		close(stop)
-		if err := <-done; err != nil {
-			t.Errorf("Run: %v", err)
-		}
-	}
+	return d, "a-test-token-of-some-length", runInBackground(t, d)
 }
 
 func apiCall(t *testing.T, d *Daemon, method, path, token string, body, out any) int {

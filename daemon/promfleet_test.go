@@ -87,13 +87,7 @@ func exportedFamilies(t *testing.T) map[string]bool {
 	if err != nil {
 		t.Fatal(err)
 	}
-	stop := make(chan struct{})
-	done := make(chan error, 1)
-	go func() {
-		ctx, cancel := contextUntil(stop)
-		defer cancel()
-		done <- d.Run(ctx)
-	}()
+	stop := runInBackground(t, d)
 	// The alarm state (and the hold tests' bucket) loads as Run starts; a
 	// hold test asked for before then fails the request, so ask again.
 	var h HoldTestJSON
@@ -130,10 +124,7 @@ func exportedFamilies(t *testing.T) map[string]bool {
 			names[m[1]] = true
 		}
 	}
-	close(stop)
-	if err := <-done; err != nil {
-		t.Fatalf("Run: %v", err)
-	}
+	stop()
 	return names
 }
 

@@ -193,13 +193,7 @@ func TestRemoteWriteReplaysOutage(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	stop := make(chan struct{})
-	done := make(chan error, 1)
-	go func() {
-		ctx, cancel := contextUntil(stop)
-		defer cancel()
-		done <- d.Run(ctx)
-	}()
+	stop := runInBackground(t, d)
 	addr := d.Addr()
 	waitFor(t, 10*time.Second, "the first accepted send", func() bool { return metricValue(t, addr, "holdfast_remote_write_samples_total") > 0 })
 	time.Sleep(time.Second) // 20 s simulated, sent as it comes
@@ -218,10 +212,7 @@ func TestRemoteWriteReplaysOutage(t *testing.T) {
 	prom.start(t)
 	waitFor(t, 10*time.Second, "the gap to be replayed", func() bool { return metricValue(t, addr, "holdfast_remote_write_lag_seconds") < 5 })
 	time.Sleep(500 * time.Millisecond)
-	close(stop)
-	if err := <-done; err != nil {
-		t.Fatalf("Run: %v", err)
-	}
+	stop()
 
 	db, err := store.Open(StorePath(dir), store.Options{ReadOnly: true})
 	if err != nil {
@@ -309,22 +300,13 @@ func TestRemoteWriteRefusalsAndToken(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	stop := make(chan struct{})
-	done := make(chan error, 1)
-	go func() {
-		ctx, cancel := contextUntil(stop)
-		defer cancel()
-		done <- d.Run(ctx)
-	}()
+	stop := runInBackground(t, d)
 	waitFor(t, 10*time.Second, "accepted sends after the refusals", func() bool {
 		return metricValue(t, d.Addr(), "holdfast_remote_write_samples_total") > 0
 	})
 	rejected := metricValue(t, d.Addr(), "holdfast_remote_write_samples_rejected_total")
 	failures := metricValue(t, d.Addr(), "holdfast_remote_write_failures_total")
-	close(stop)
-	if err := <-done; err != nil {
-		t.Fatalf("Run: %v", err)
-	}
+	stop()
 	mu.Lock()
 	defer mu.Unlock()
 	if badAuth > 0 {

@@ -360,19 +360,7 @@ func TestReportAPI(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	stop := make(chan struct{})
-	done := make(chan error, 1)
-	go func() {
-		ctx, cancel := contextUntil(stop)
-		defer cancel()
-		done <- d.Run(ctx)
-	}()
-	defer func() {
-		close(stop)
-		if err := <-done; err != nil {
-			t.Errorf("Run: %v", err)
-		}
-	}()
+	defer runInBackground(t, d)()
 	for clock.Now().Sub(start) < 10*time.Minute {
 		time.Sleep(20 * time.Millisecond)
 	}
