@@ -17,9 +17,9 @@ const alarmsSynopsis = "[list|ack|shelve|unshelve|suppress|unsuppress|out-of-ser
 // cmdAlarms lists the running daemon's alarms or changes one of them
 // through its token-protected API.
 func cmdAlarms(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	sub := "list"
-	if len(args) > 0 && args[0] != "" && args[0][0] != '-' {
-		sub, args = args[0], args[1:]
+	sub, args := firstArg(args)
+	if sub == "" {
+		sub = "list"
 	}
 	fs := newFlags("alarms", alarmsSynopsis, stderr)
 	api := addAPIFlags(fs)

@@ -12,9 +12,9 @@ import (
 
 // cmdBake lists, shows and starts bakes on the running daemon.
 func cmdBake(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	sub := "list"
-	if len(args) > 0 && args[0] != "" && args[0][0] != '-' {
-		sub, args = args[0], args[1:]
+	sub, args := firstArg(args)
+	if sub == "" {
+		sub = "list"
 	}
 	fs := newFlags("bake", "[list | show ID | start] [flags]", stderr)
 	api := addAPIFlags(fs)

@@ -252,15 +252,6 @@ func sameStore(path string) error {
 	return db.Close()
 }
 
-// firstArg takes a leading non-flag argument, so both "backup FILE --data D"
-// and "backup --data D FILE" work.
-func firstArg(args []string) (string, []string) {
-	if len(args) > 0 && len(args[0]) > 0 && args[0][0] != '-' {
-		return args[0], args[1:]
-	}
-	return "", args
-}
-
 // createNew creates a file that must not exist yet.
 func createNew(path string) (*os.File, error) {
 	f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o600)

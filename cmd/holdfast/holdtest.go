@@ -16,9 +16,9 @@ import (
 // cmdHoldTest starts, lists and shows hold tests (pressure-rise tests) on
 // the running daemon.
 func cmdHoldTest(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	sub := "list"
-	if len(args) > 0 && args[0] != "" && args[0][0] != '-' {
-		sub, args = args[0], args[1:]
+	sub, args := firstArg(args)
+	if sub == "" {
+		sub = "list"
 	}
 	fs := newFlags("holdtest", "[start --gauge G [--settle 2m] [--duration 10m] [--force] | list | show ID [--svg FILE]] [flags]", stderr)
 	api := addAPIFlags(fs)

@@ -127,3 +127,12 @@ func hasFlags(fs *flag.FlagSet) bool {
 func errUsage(format string, a ...any) error {
 	return fmt.Errorf("usage: "+format, a...)
 }
+
+// firstArg takes a leading non-flag argument (a subcommand, or a file as in
+// "db backup FILE --data D"), so it may come before or after the flags.
+func firstArg(args []string) (string, []string) {
+	if len(args) > 0 && len(args[0]) > 0 && args[0][0] != '-' {
+		return args[0], args[1:]
+	}
+	return "", args
+}
