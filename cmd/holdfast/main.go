@@ -97,7 +97,7 @@ func usage(w io.Writer) {
 	}
 	slices.Sort(names)
 	for _, n := range names {
-		fmt.Fprintf(w, "  %-11s %s\n", n, commands[n].summary)
+		fmt.Fprintf(w, "  %-12s %s\n", n, commands[n].summary)
 	}
 	fmt.Fprintln(w, "\nRun 'holdfast <command> --help' for a command's flags.")
 }
