@@ -32,8 +32,29 @@ type BakeSpan struct {
 	From, To time.Time
 }
 
+// bakeColors shade a bake's phases in hues the alarm severities do not use
+// (those are yellow to red and blue), so a ramp never reads as an alarm.
 var bakeColors = map[string]color.RGBA{
-	"ramp": {0xE6, 0x9F, 0x00, 0xFF}, "hold": {0xD5, 0x5E, 0x00, 0xFF}, "cool": {0x56, 0xB4, 0xE9, 0xFF},
+	"ramp": {0x00, 0x9E, 0x73, 0xFF}, "hold": {0x88, 0x44, 0xAA, 0xFF}, "cool": {0x66, 0x88, 0x88, 0xFF},
+}
+
+// bakeAlpha is the opacity of a phase's shading and of its legend swatch.
+const bakeAlpha = 0x30
+
+// legendForBakes adds one legend entry per bake phase drawn.
+func (f *figure) legendForBakes() {
+	for _, phase := range []string{"ramp", "hold", "cool"} {
+		found := false
+		for _, b := range f.n.Bakes {
+			for _, s := range b.Phases {
+				found = found || s.Phase == phase
+			}
+		}
+		if found {
+			poly := &plotter.Polygon{Color: translucent(bakeColors[phase], bakeAlpha)}
+			f.legend = append(f.legend, legendEntry{name: "bake " + phase, thumbs: []plot.Thumbnailer{poly}})
+		}
+	}
 }
 
 // shadeBakes shades the temperature panel behind each bake's phases.
@@ -51,7 +72,7 @@ func (f *figure) shadeBakes(p *plot.Plot, ymin, ymax float64) {
 			if err != nil {
 				continue
 			}
-			poly.Color = translucent(bakeColors[s.Phase], 0x22)
+			poly.Color = translucent(bakeColors[s.Phase], bakeAlpha)
 			poly.LineStyle.Width = 0
 			p.Add(poly)
 		}
@@ -64,9 +85,9 @@ func (n *Night) bakeText(b Bake) string {
 	if b.Running {
 		state = "running, " + b.Phases[len(b.Phases)-1].Phase
 	}
-	s := fmt.Sprintf("bake %s (%s): %s at %g C of %s asked", b.ID, state, Duration(b.AtTemp), b.HoldC, Duration(b.HoldFor))
+	s := fmt.Sprintf("bake %s (%s): %s at %g °C of %s asked", b.ID, state, Duration(b.AtTemp), b.HoldC, Duration(b.HoldFor))
 	if !math.IsNaN(b.MaxC) {
-		s += fmt.Sprintf(", maximum %.1f C", b.MaxC)
+		s += fmt.Sprintf(", maximum %.1f °C", b.MaxC)
 	}
 	if !math.IsNaN(b.PressBefore) {
 		s += fmt.Sprintf(", pressure before %.3g Pa", b.PressBefore)

@@ -92,6 +92,9 @@ func newFigure(n *Night) (*figure, error) {
 		}
 	}
 	f.legendForShading()
+	if f.temp != nil {
+		f.legendForBakes()
+	}
 	bottom := f.press
 	if f.temp != nil {
 		bottom = f.temp
