@@ -48,11 +48,8 @@ func (d *Daemon) WriteReport(w io.Writer, from, to time.Time, format string) err
 // opened read-only; it fails at once, wrapping ErrDataInUse, while a daemon
 // holds the directory.
 func ReportFromDir(w io.Writer, cfg *Config, from, to time.Time, format string) (err error) {
-	db, err := store.Open(StorePath(cfg.Store.Dir), store.Options{ReadOnly: true, Timeout: 300 * time.Millisecond})
+	db, err := openIdle(cfg.Store.Dir)
 	if err != nil {
-		if isLocked(err) {
-			return fmt.Errorf("%w: %w", ErrDataInUse, err)
-		}
 		return err
 	}
 	defer func() { err = errors.Join(err, db.Close()) }()
@@ -301,11 +298,8 @@ func isLocked(err error) bool { return errors.Is(err, berrors.ErrTimeout) }
 // kinds names none; those are returned as guessed, for the caller to say so.
 // Units are the base units (Pa, °C); the chamber is named after the directory.
 func BareReportConfig(dir string, kinds map[string]string) (cfg *Config, guessed []string, err error) {
-	db, err := store.Open(StorePath(dir), store.Options{ReadOnly: true, Timeout: 300 * time.Millisecond})
+	db, err := openIdle(dir)
 	if err != nil {
-		if isLocked(err) {
-			return nil, nil, fmt.Errorf("%w: %w", ErrDataInUse, err)
-		}
 		return nil, nil, err
 	}
 	series, err := db.Series()
@@ -331,4 +325,14 @@ func BareReportConfig(dir string, kinds map[string]string) (cfg *Config, guessed
 		cfg.Gauges[s] = &GaugeConfig{Kind: k}
 	}
 	return cfg, guessed, nil
+}
+
+// openIdle opens the store in dir read-only, failing at once, wrapping
+// ErrDataInUse, while a daemon holds it.
+func openIdle(dir string) (*store.DB, error) {
+	db, err := store.Open(StorePath(dir), store.Options{ReadOnly: true, Timeout: 300 * time.Millisecond})
+	if err != nil && isLocked(err) {
+		return nil, fmt.Errorf("%w: %w", ErrDataInUse, err)
+	}
+	return db, err
 }
