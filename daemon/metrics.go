@@ -67,7 +67,7 @@ var (
 		"1 while the gauge answers its polls, its last sample is recent and it reports no sensor fault, else 0 (holdfast_sensor_quality says why).",
 		[]string{"gauge"}, nil)
 	descQuality = prometheus.NewDesc("holdfast_sensor_quality",
-		"1 for what the gauge's value is worth now, 0 for the others: its last sample's quality (ok, over-range, under-range, sensor-fault, off, extrapolated) while it answers, no-reply while it does not (its link down, or no answer yet), stale when its last sample is too old.",
+		"1 for what the gauge's value is worth now, 0 for the others: its last sample's quality (ok, over-range, under-range, sensor-fault, off, extrapolated) while it answers, no-reply while it does not (its link down, or no answer yet), stale while its last sample is too old though no poll failed (a poller held up).",
 		[]string{"gauge", "quality"}, nil)
 	descLast = prometheus.NewDesc("holdfast_last_sample_timestamp_seconds",
 		"Unix time of the gauge's last sample, on the daemon's clock.",
@@ -149,8 +149,8 @@ func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
 // label values of the metric (and words in notifications), never stored:
 // a stored quality is a calib.Quality.
 const (
-	qualityNoReply = "no-reply" // downAfter polls in a row unanswered, the link down, or no answer yet
-	qualityStale   = "stale"    // answering, but its last sample is older than the stale limit
+	qualityNoReply = "no-reply" // downAfter polls in a row unanswered (or one, once the last sample is stale), the link down, or no answer yet
+	qualityStale   = "stale"    // no poll failed, but none has completed within the stale limit either (a poller held up)
 )
 
 // liveQualities lists every value the quality label of

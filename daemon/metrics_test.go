@@ -101,7 +101,7 @@ func TestAlarmsDownIsVisible(t *testing.T) {
 // holdfast_sensor_quality says what each gauge's value is worth now, not
 // what its last sample said: a gauge that stopped answering (or never
 // answered) says no-reply though its last sample was ok, one held up past
-// its stale limit says stale, one whose instrument reports a fault (it
+// its stale limit with no poll failed says stale, one whose instrument reports a fault (it
 // answers) says sensor-fault. Exactly one quality is 1 per gauge.
 func TestSensorQualitySaysLiveState(t *testing.T) {
 	now := time.Now()
@@ -116,10 +116,13 @@ func TestSensorQualitySaysLiveState(t *testing.T) {
 	faultThenSilent.seen, faultThenSilent.up, faultThenSilent.last, faultThenSilent.misses = true, false, fault.last, downAfter+2
 	stale := fakeGauge("stale", time.Second, nil)
 	stale.seen, stale.up, stale.last = true, true, calib.Sample{At: now.Add(-time.Minute), Value: 7, Quality: calib.QualityOK}
+	// One poll unanswered, since a sample that is stale by now.
+	staleMissed := fakeGauge("stale-missed", time.Second, nil)
+	staleMissed.seen, staleMissed.up, staleMissed.last, staleMissed.misses = true, true, stale.last, 1
 	never := fakeGauge("never", time.Second, nil)
-	d := testDaemon(t, ok, silent, fault, faultThenSilent, stale, never)
+	d := testDaemon(t, ok, silent, fault, faultThenSilent, stale, staleMissed, never)
 	want := map[string]string{"ok": "ok", "silent": "no-reply", "fault": "sensor-fault",
-		"fault-then-silent": "no-reply", "stale": "stale", "never": "no-reply"}
+		"fault-then-silent": "no-reply", "stale": "stale", "stale-missed": "no-reply", "never": "no-reply"}
 	got := map[string][]string{}
 	n := map[string]int{}
 	mfs, err := d.met.reg.Gather()
