@@ -89,6 +89,10 @@ var (
 		nil, nil)
 )
 
+// valueDescs gives the metric of each kind's value; an OpenMetrics export
+// and remote write use the same names (seriesio.MetricName).
+var valueDescs = map[string]*prometheus.Desc{"pressure": descPressure, "temperature": descTemperature, "state": descState}
+
 // liveCollector builds fresh metrics from the pollers' last samples on
 // every scrape, so a gauge that stops answering drops its value instead of
 // exporting a stale one.
@@ -121,7 +125,7 @@ func (c *liveCollector) Collect(ch chan<- prometheus.Metric) {
 		if !v.last.Quality.HasValue() || v.stale || !v.up {
 			continue
 		}
-		desc := map[string]*prometheus.Desc{"pressure": descPressure, "temperature": descTemperature, "state": descState}[v.kind]
+		desc := valueDescs[v.kind]
 		if desc == nil {
 			continue
 		}
