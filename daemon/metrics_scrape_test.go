@@ -16,7 +16,7 @@ import (
 )
 
 // scrapeConfig is a bench whose ion gauge stops answering 30 s in and
-// answers again at 3 min, and whose foreline Pirani reports a sensor fault
+// answers again at 2 min, and whose foreline Pirani reports a sensor fault
 // from 30 s on; a second ion gauge and the wall thermocouple stay well.
 // An alarm, a webhook and remote write (both to a port nobody listens on)
 // make their metric families appear too.
@@ -35,7 +35,7 @@ links:
       timeline:
         - {after: 30s, fail: {gauge: ion, mode: silent}}
         - {after: 30s, fail: {gauge: foreline, mode: fault}}
-        - {after: 3m, recover: ion}
+        - {after: 2m, recover: ion}
 gauges:
   ion: {link: bench, driver: sim, instrument: ion, kind: pressure}
   foreline: {link: bench, driver: sim, instrument: pirani, kind: pressure}
