@@ -203,7 +203,7 @@ func TestCalibrationEdgeKeepsGaugeReading(t *testing.T) {
 	}
 	body, _ := io.ReadAll(resp.Body)
 	resp.Body.Close()
-	for _, w := range []string{`holdfast_gauge_quality{gauge="foreline",quality="extrapolated"} 1`, `holdfast_pressure_pascals{gauge="foreline"}`} {
+	for _, w := range []string{`holdfast_sensor_quality{gauge="foreline",quality="extrapolated"} 1`, `holdfast_pressure_pascals{gauge="foreline"}`} {
 		if !strings.Contains(string(body), w) {
 			t.Errorf("/metrics lacks %s", w)
 		}

@@ -46,7 +46,7 @@ func (c calibCollector) Collect(ch chan<- prometheus.Metric) {
 		}
 		ch <- prometheus.MustNewConstMetric(descCalibInfo, prometheus.GaugeValue, 1, g.name, strconv.FormatUint(uint64(id), 10), model)
 		v := g.view(now)
-		if !ok || id == 0 || !v.seen || v.stale || v.last.Quality != calib.QualityOK {
+		if !ok || id == 0 || v.quality() != calib.QualityOK.String() {
 			continue
 		}
 		if u, in := ext.Cal.Uncertainty.At(v.last.Value); in {

@@ -24,7 +24,7 @@ var (
 	descStoreFlushSeconds = prometheus.NewDesc("holdfast_store_last_flush_duration_seconds",
 		"How long the last committed flush took.", nil, nil)
 	descStoreMapped = prometheus.NewDesc("holdfast_store_mapped_bytes",
-		"Bytes of the memory-mapped store file resident in RAM: part of process_resident_memory_bytes, apart from the Go heap (go_memstats_heap_inuse_bytes). Linux only.", nil, nil)
+		"Bytes of the memory-mapped store file resident in RAM: part of process_resident_memory_bytes, apart from the Go heap (go_memory_classes_heap_objects_bytes + go_memory_classes_heap_unused_bytes). Linux only.", nil, nil)
 )
 
 func (c storeCollector) Describe(ch chan<- *prometheus.Desc) {

@@ -72,26 +72,22 @@ func transitionOf(chamber string, ev alerts.Event) (notify.Transition, bool) {
 	return tr, true
 }
 
-// gaugeQuality is what the gauge's last sample says about its value, for
-// a notification that has no value to show: ok, over-range, under-range,
-// sensor-fault, off, stale (no sample lately) or no-reply (the gauge is
-// down). Empty for a gauge that has not answered yet or is not a gauge
-// (the daemon's own health).
+// gaugeQuality is what the gauge's value is worth now, for a notification
+// that has no value to show: its last sample's quality (ok, over-range,
+// under-range, sensor-fault, off, extrapolated), stale (no sample lately)
+// or no-reply (the gauge is not answering), as holdfast_sensor_quality
+// says. Empty for a gauge that has not answered yet or is not a gauge (the
+// daemon's own health).
 func (d *Daemon) gaugeQuality(name string, now time.Time) string {
 	g := d.gaugeNamed(name)
 	if g == nil {
 		return ""
 	}
 	v := g.view(now)
-	switch {
-	case !v.seen:
+	if !v.seen {
 		return ""
-	case !v.up:
-		return "no-reply"
-	case v.stale:
-		return "stale"
 	}
-	return v.last.Quality.String()
+	return v.quality()
 }
 
 // inUnit converts an SI value for a notification; nil when there is none.

@@ -57,13 +57,15 @@ type gaugeView struct {
 	last       calib.Sample
 	seen, up   bool
 	stale      bool
+	silent     bool // downAfter polls in a row got no answer (or the link is down), or any since the last sample went stale
 }
 
 func (g *gauge) view(now time.Time) gaugeView {
 	g.mu.Lock()
 	defer g.mu.Unlock()
 	stale := now.Sub(g.last.At) > 3*g.cfg.Interval.D()+g.cfg.Timeout.D()+g.slack
-	return gaugeView{name: g.name, kind: g.cfg.Kind, last: g.last, seen: g.seen, up: g.up, stale: stale}
+	return gaugeView{name: g.name, kind: g.cfg.Kind, last: g.last, seen: g.seen, up: g.up, stale: stale,
+		silent: g.misses >= downAfter || g.misses > 0 && stale}
 }
 
 // pollLink owns l: it polls l's gauges one at a time, each on its interval,

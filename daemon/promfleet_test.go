@@ -239,7 +239,7 @@ func TestMetricNamesScanner(t *testing.T) {
 		{`sum without (gauge) (rate(holdfast_polls_total[$__rate_interval])) / on (instance) group_left (site) up`, []string{"holdfast_polls_total", "up"}},
 		{`time() - holdfast_last_sample_timestamp_seconds offset 5m > 2.5e+2`, []string{"holdfast_last_sample_timestamp_seconds"}},
 		{`label_values(holdfast_pressure_pascals{site=~"$site"}, chamber)`, []string{"holdfast_pressure_pascals"}},
-		{`site:holdfast_gauges_down:count or vector(0)`, []string{"site:holdfast_gauges_down:count"}},
+		{`site:holdfast_sensors_down:count or vector(0)`, []string{"site:holdfast_sensors_down:count"}},
 	} {
 		if got := metricNames(c.expr); !slices.Equal(got, c.want) {
 			t.Errorf("metricNames(%q) = %q, want %q", c.expr, got, c.want)

@@ -52,8 +52,8 @@ func fakeController(t *testing.T, link string, p1, p2 *float64, mu *sync.Mutex) 
 }
 
 // Two gauges fed by one query over a real serial line (a pty): values in
-// mbar become pascals; pulling the cable takes both down and plugging it
-// back brings them up without a restart.
+// mbar become pascals; pulling the cable takes both down (their quality
+// no-reply) and plugging it back brings them up without a restart.
 func TestSerialGaugesOverPty(t *testing.T) {
 	dir := t.TempDir()
 	dev := filepath.Join(dir, "ttyFAKE")
@@ -100,6 +100,12 @@ gauges:
 	})
 	stop() // the cable is pulled
 	waitFor(t, 5*time.Second, "both gauges down", func() bool { return len(scrape(t, d.Addr())) == 0 })
+	// Their quality says so, not their last sample's ok.
+	waitFor(t, 5*time.Second, "both gauges' quality no-reply", func() bool {
+		text, _ := scrapeAs(t, d, textFormat)
+		return hasLine(text, `holdfast_sensor_quality{gauge="rough",quality="no-reply"} 1`) &&
+			hasLine(text, `holdfast_sensor_quality{gauge="high",quality="no-reply"} 1`)
+	})
 	mu.Lock()
 	p1 = 3.0e-2
 	mu.Unlock()

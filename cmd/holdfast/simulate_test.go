@@ -254,7 +254,7 @@ func TestSimulateFeedsTheDaemon(t *testing.T) {
 		}
 	}()
 	want := []string{`holdfast_pressure_pascals{gauge="lock-cdg"}`, `holdfast_pressure_pascals{gauge="lock-pirani"}`,
-		`holdfast_temperature_celsius{gauge="lock-wall"}`, `holdfast_gauge_up{gauge="lock-ion"} 1`}
+		`holdfast_temperature_celsius{gauge="lock-wall"}`, `holdfast_sensor_up{gauge="lock-ion"} 1`}
 	tick := time.NewTicker(50 * time.Millisecond)
 	defer tick.Stop()
 	var page string
