@@ -51,11 +51,11 @@ func (id Identify) compile() (*identity, error) {
 	case err != nil:
 		errs = append(errs, fmt.Errorf("send: %w", err))
 	case len(send) == 0:
-		errs = append(errs, errors.New(`send: missing: give the question that makes the instrument say what it is, e.g. "WHO\r"`))
+		errs = append(errs, errors.New(`send: missing; give the question that makes the instrument say what it is, e.g. "WHO\r"`))
 	}
 	c.send = send
 	if id.Expect == "" {
-		errs = append(errs, errors.New(`expect: missing: give a pattern only this instrument's reply matches, e.g. '^UNIT bench-pirani$'`))
+		errs = append(errs, errors.New(`expect: missing; give a pattern only this instrument's reply matches, e.g. '^UNIT bench-pirani$'`))
 	} else if c.re, err = regexp.Compile(id.Expect); err != nil {
 		errs = append(errs, fmt.Errorf("expect: %w", err))
 	}
