@@ -72,13 +72,17 @@ func (d *Daemon) buildLink(name string, lc *LinkConfig) (*link, error) {
 		}
 		l.sim = ch
 	case lc.Serial != nil:
-		sl, err := drivers.OpenSerial(lc.Serial.driver(name), d.log)
+		sc := lc.Serial.driver(name)
+		sc.Identify = lc.Identify.driver()
+		sl, err := drivers.OpenSerial(sc, d.log)
 		if err != nil {
 			return nil, err
 		}
 		l.stream, l.close, l.stats = sl, sl.Close, sl.Stats
 	case lc.TCP != nil:
-		tl, err := drivers.DialTCP(lc.TCP.driver(name), d.log)
+		tc := lc.TCP.driver(name)
+		tc.Identify = lc.Identify.driver()
+		tl, err := drivers.DialTCP(tc, d.log)
 		if err != nil {
 			return nil, err
 		}

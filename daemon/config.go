@@ -70,6 +70,7 @@ type LinkConfig struct {
 	TCP       *TCPLinkConfig    `yaml:"tcp"`
 	ModbusRTU *SerialLinkConfig `yaml:"modbus_rtu"` // Modbus RTU over a serial line or RS-485 bus
 	ModbusTCP *TCPLinkConfig    `yaml:"modbus_tcp"`
+	Identify  *IdentifyConfig   `yaml:"identify"` // checked on every (re)connect; config_identify.go
 }
 
 // SimConfig describes a simulated chamber served as a link; its gauges use

@@ -147,6 +147,7 @@ func (v *checker) link(name string, l *LinkConfig) {
 		tc := l.ModbusTCP.driver(name)
 		v.driverErrs(path+".modbus_tcp", drivers.ModbusConfig{Name: name, TCP: &tc}.Validate())
 	}
+	v.identifyLink(path, l)
 }
 
 // driverErrs reports a leaf package's problems, each of which begins with

@@ -60,6 +60,7 @@ type gaugeJSON struct {
 	Raw     *float64  `json:"raw,omitempty"`
 	Value   *float64  `json:"value_si,omitempty"` // Pa or °C
 	Display string    `json:"display,omitempty"`  // in the gauge's configured unit
+	Reason  string    `json:"reason,omitempty"`   // why a gauge that is not up is down, when its link says
 	// Gas and Transpiration are the corrections applied to the value.
 	Gas           *gasJSON           `json:"gas,omitempty"`
 	Transpiration *transpirationJSON `json:"transpiration,omitempty"`
@@ -68,9 +69,13 @@ type gaugeJSON struct {
 func (d *Daemon) apiGauges(w http.ResponseWriter, _ *http.Request) {
 	now := d.clock.Now()
 	out := make([]gaugeJSON, 0, len(d.gauges))
+	down := d.linkDownReasons()
 	for _, g := range d.gauges {
 		v := g.view(now)
 		j := gaugeJSON{Gauge: v.name, Kind: v.kind, Up: v.up && !v.stale}
+		if !j.Up {
+			j.Reason = down[v.name]
+		}
 		j.Gas, j.Transpiration = g.corr.describe(now)
 		if v.seen {
 			j.Quality, j.At = v.last.Quality.String(), v.last.At

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"net"
 	"slices"
+	"strings"
 	"time"
 )
 
@@ -65,6 +66,9 @@ type SerialConfig struct {
 	RS485   bool
 	Timeout time.Duration // per exchange, unless the context ends sooner
 	Backoff Backoff
+	// Identify, when set, is run on every open before any gauge's exchange;
+	// a wrong or silent instrument keeps the link down (ErrWrongInstrument).
+	Identify *Identify
 }
 
 var parities = []string{"none", "even", "odd", "mark", "space"}
@@ -113,17 +117,18 @@ func (c SerialConfig) Validate() error {
 	if c.Timeout < 0 {
 		add("timeout", "must not be negative, got %s", c.Timeout)
 	}
-	errs = append(errs, c.Backoff.validate("backoff"))
+	errs = append(errs, c.Backoff.validate("backoff"), identifyErr(c.Identify))
 	return errors.Join(errs...)
 }
 
 // TCPConfig describes one TCP endpoint: a serial-to-Ethernet converter in raw
 // mode or an instrument's own socket.
 type TCPConfig struct {
-	Name    string // the link's config name, used in logs and errors
-	Address string // host:port
-	Timeout time.Duration
-	Backoff Backoff
+	Name     string // the link's config name, used in logs and errors
+	Address  string // host:port
+	Timeout  time.Duration
+	Backoff  Backoff
+	Identify *Identify // as SerialConfig.Identify
 }
 
 // Validate reports every problem with the configuration, each naming its field.
@@ -137,6 +142,34 @@ func (c TCPConfig) Validate() error {
 	if c.Timeout < 0 {
 		errs = append(errs, fmt.Errorf("timeout: must not be negative, got %s", c.Timeout))
 	}
-	errs = append(errs, c.Backoff.validate("backoff"))
+	errs = append(errs, c.Backoff.validate("backoff"), identifyErr(c.Identify))
 	return errors.Join(errs...)
+}
+
+// identifyErr is id's problems with each field under "identify.", or nil.
+func identifyErr(id *Identify) error {
+	if id == nil {
+		return nil
+	}
+	err := id.Validate()
+	if err == nil {
+		return nil
+	}
+	var errs []error
+	for _, e := range strings.Split(err.Error(), "\n") {
+		errs = append(errs, errors.New("identify."+e))
+	}
+	return errors.Join(errs...)
+}
+
+// compileIdentify readies id to run; nil stays nil. The config was validated.
+func compileIdentify(id *Identify) *identity {
+	if id == nil {
+		return nil
+	}
+	c, err := id.compile()
+	if err != nil {
+		return nil // unreachable after Validate
+	}
+	return c
 }

@@ -12,8 +12,10 @@ func (l *StreamLink) fail(cause error) error {
 	return l.down(cause)
 }
 
-// reopen opens the device unless the backoff has not yet passed. A failed
-// attempt doubles the wait up to the backoff's maximum.
+// reopen opens the device unless the backoff has not yet passed, and runs
+// the link's identity exchange, if any, before the link counts as up. A
+// failed attempt, a wrong instrument or one that does not answer, doubles
+// the wait up to the backoff's maximum.
 func (l *StreamLink) reopen(ctx context.Context) error {
 	if err := l.due(); err != nil {
 		return err
@@ -21,6 +23,14 @@ func (l *StreamLink) reopen(ctx context.Context) error {
 	p, err := l.open(ctx)
 	if err != nil {
 		return l.openFailed(err)
+	}
+	if l.ident != nil {
+		reply, err := l.ident.check(ctx, p, l.timeout)
+		if err != nil {
+			_ = p.Close() // the instrument is not ours; its close error adds nothing
+			return l.openFailed(err)
+		}
+		l.log.Info("instrument identified", "reply", reply)
 	}
 	l.p, l.dirty = p, true
 	l.up()

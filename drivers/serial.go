@@ -25,7 +25,7 @@ func OpenSerial(cfg SerialConfig, log *slog.Logger) (*StreamLink, error) {
 		return nil, err
 	}
 	open := func(context.Context) (port, error) { return openSerialPort(cfg, mode) }
-	return newStreamLink(cfg.Name, cfg.Device, cfg.Timeout, cfg.Backoff, log, open), nil
+	return newStreamLink(cfg.Name, cfg.Device, cfg.Timeout, cfg.Backoff, log, open, compileIdentify(cfg.Identify)), nil
 }
 
 func serialMode(cfg SerialConfig) (*serial.Mode, error) {

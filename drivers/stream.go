@@ -52,6 +52,9 @@ type StreamLink struct {
 	// reopenAfter closes the link after this many timeouts in a row
 	// (0: never); a TCP peer that rebooted leaves a silent half-open socket.
 	reopenAfter int
+	// ident, when set, is run on every open before the link counts as up
+	// (see Identify).
+	ident *identity
 
 	mu    sync.Mutex // held for a whole exchange
 	p     port
@@ -60,14 +63,14 @@ type StreamLink struct {
 }
 
 func newStreamLink(name, target string, timeout time.Duration, b Backoff, log *slog.Logger,
-	open func(context.Context) (port, error)) *StreamLink {
+	open func(context.Context) (port, error), ident *identity) *StreamLink {
 	if log == nil {
 		log = slog.New(slog.DiscardHandler)
 	}
 	if timeout <= 0 {
 		timeout = DefaultTimeout
 	}
-	l := &StreamLink{name: name, open: open, timeout: timeout, reconnector: reconnector{
+	l := &StreamLink{name: name, open: open, timeout: timeout, ident: ident, reconnector: reconnector{
 		target: target, backoff: b.withDefaults(), log: log.With("link", name, "device", target)}}
 	l.mu.Lock()
 	defer l.mu.Unlock()

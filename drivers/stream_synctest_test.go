@@ -53,7 +53,7 @@ func TestReopenBackoffDoublesToTheCap(t *testing.T) {
 			}
 			return &memPort{reply: []byte("ok\n")}, nil
 		}
-		l := newStreamLink("bench", "/dev/fake", 100*time.Millisecond, Backoff{}, slog.New(slog.DiscardHandler), open)
+		l := newStreamLink("bench", "/dev/fake", 100*time.Millisecond, Backoff{}, slog.New(slog.DiscardHandler), open, nil)
 		tick := time.NewTicker(10 * time.Millisecond)
 		defer tick.Stop()
 		for l.Stats().Reconnects == 0 {
@@ -85,7 +85,7 @@ func TestExchangeTimesOutOnTheLinkTimeout(t *testing.T) {
 	synctest.Test(t, func(t *testing.T) {
 		p := &memPort{} // silent
 		l := newStreamLink("bench", "/dev/fake", 300*time.Millisecond, Backoff{}, nil,
-			func(context.Context) (port, error) { return p, nil })
+			func(context.Context) (port, error) { return p, nil }, nil)
 		start := time.Now()
 		_, err := l.Exchange(context.Background(), []byte("Q\n"), '\n')
 		if !errors.Is(err, ErrNoReply) || IsLinkDown(err) {
@@ -111,7 +111,7 @@ func TestSilentTCPPeerIsReopened(t *testing.T) {
 	synctest.Test(t, func(t *testing.T) {
 		opens := 0
 		l := newStreamLink("converter", "192.0.2.1:4001", 100*time.Millisecond, Backoff{}, nil,
-			func(context.Context) (port, error) { opens++; return &memPort{}, nil })
+			func(context.Context) (port, error) { opens++; return &memPort{}, nil }, nil)
 		l.reopenAfter = tcpSilentLimit
 		var last error
 		for range tcpSilentLimit {
@@ -130,7 +130,7 @@ func TestSilentTCPPeerIsReopened(t *testing.T) {
 
 func BenchmarkStreamLinkExchange(b *testing.B) {
 	p := &memPort{reply: []byte("v=1.23E-04;s=fine\r\n")}
-	l := newStreamLink("bench", "/dev/fake", time.Second, Backoff{}, nil, func(context.Context) (port, error) { return p, nil })
+	l := newStreamLink("bench", "/dev/fake", time.Second, Backoff{}, nil, func(context.Context) (port, error) { return p, nil }, nil)
 	req := []byte("SHOW\r")
 	ctx := context.Background()
 	b.ReportAllocs()

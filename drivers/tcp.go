@@ -32,7 +32,7 @@ func DialTCP(cfg TCPConfig, log *slog.Logger) (*StreamLink, error) {
 		}
 		return &tcpPort{c: c}, nil
 	}
-	l := newStreamLink(cfg.Name, cfg.Address, timeout, cfg.Backoff, log, open)
+	l := newStreamLink(cfg.Name, cfg.Address, timeout, cfg.Backoff, log, open, compileIdentify(cfg.Identify))
 	l.reopenAfter = tcpSilentLimit
 	return l, nil
 }
