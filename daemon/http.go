@@ -20,10 +20,10 @@ import (
 
 func (d *Daemon) handler() http.Handler {
 	mux := http.NewServeMux()
-	mux.Handle("GET /metrics", promhttp.InstrumentMetricHandler(d.met.reg,
+	mux.Handle("GET /metrics", d.metricsAuth(promhttp.InstrumentMetricHandler(d.met.reg,
 		promhttp.HandlerFor(d.met.reg, promhttp.HandlerOpts{
 			EnableOpenMetrics: true, Registry: d.met.reg, Timeout: 10 * time.Second,
-		})))
+		}))))
 	mux.HandleFunc("GET /healthz", d.healthz)
 	mux.HandleFunc("GET /api/v1/gauges", d.apiGauges)
 	mux.HandleFunc("GET /{$}", d.landing)
@@ -32,7 +32,59 @@ func (d *Daemon) handler() http.Handler {
 	d.seriesRoutes(mux)
 	d.reportRoutes(mux)
 	d.bakeRoutes(mux)
-	return mux
+	return d.limitBody(mux)
+}
+
+// limitBody caps every request body at http.max_body_bytes: a body that
+// says it is larger is refused at once with 413, and one that turns out
+// larger (chunked) fails its handler's read with http.MaxBytesError.
+func (d *Daemon) limitBody(h http.Handler) http.Handler {
+	limit := d.cfg.HTTP.MaxBodyBytes
+	if limit <= 0 {
+		limit = defaultMaxBodyBytes
+	}
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		if r.ContentLength > limit {
+			apiError(w, http.StatusRequestEntityTooLarge, fmt.Sprintf(
+				"request body of %d bytes is larger than http.max_body_bytes (%d); send less, or raise http.max_body_bytes", r.ContentLength, limit))
+			return
+		}
+		r.Body = http.MaxBytesReader(w, r.Body, limit)
+		h.ServeHTTP(w, r)
+	})
+}
+
+// metricsAuth guards /metrics when http.metrics_auth is set: basic auth
+// or a bearer token, both compared in constant time.
+func (d *Daemon) metricsAuth(h http.Handler) http.Handler {
+	m := d.cfg.HTTP.MetricsAuth
+	if m == nil {
+		return h
+	}
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		ok := false
+		if m.token != "" {
+			got, has := strings.CutPrefix(r.Header.Get("Authorization"), "Bearer ")
+			ok = has && subtle.ConstantTimeCompare([]byte(got), []byte(m.token)) == 1
+			if !ok {
+				w.Header().Set("WWW-Authenticate", `Bearer realm="holdfast metrics"`)
+			}
+		} else if m.password != "" {
+			u, p, has := r.BasicAuth()
+			// Both compared, always, so the time does not tell which was wrong.
+			uok := subtle.ConstantTimeCompare([]byte(u), []byte(m.Username))
+			pok := subtle.ConstantTimeCompare([]byte(p), []byte(m.password))
+			ok = has && uok&pok == 1
+			if !ok {
+				w.Header().Set("WWW-Authenticate", `Basic realm="holdfast metrics", charset="UTF-8"`)
+			}
+		}
+		if !ok {
+			http.Error(w, "metrics need credentials: see http.metrics_auth in the config", http.StatusUnauthorized)
+			return
+		}
+		h.ServeHTTP(w, r)
+	})
 }
 
 func (d *Daemon) healthz(w http.ResponseWriter, _ *http.Request) {
