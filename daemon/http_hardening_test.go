@@ -156,6 +156,28 @@ func TestHTTPTLSServesAndReloadsCertificate(t *testing.T) {
 		t.Fatalf("after the swap: %v, %v; want serial 2002", got, err)
 	}
 
+	// The commands dial it trusting exactly cert_file, whatever its names.
+	pinned := func() error {
+		c := &http.Client{Transport: &http.Transport{DisableKeepAlives: true, TLSClientConfig: d.cfg.HTTP.ClientTLS()}}
+		resp, err := c.Get(d.cfg.HTTP.Scheme() + "://" + d.Addr() + "/healthz")
+		if err == nil {
+			resp.Body.Close()
+		}
+		return err
+	}
+	if err := pinned(); err != nil {
+		t.Errorf("client pinned to cert_file: %v", err)
+	}
+	certOnDisk, _ := os.ReadFile(certFile)
+	writeCert(t, certFile+".other", keyFile+".other", 3003)
+	other, _ := os.ReadFile(certFile + ".other")
+	_ = os.WriteFile(certFile, other, 0o600) // the client now expects a certificate the daemon does not serve
+	if err := pinned(); err == nil || !strings.Contains(err.Error(), "http.tls.cert_file") {
+		t.Errorf("client pinned to a different cert_file: %v; want a refusal naming http.tls.cert_file", err)
+	}
+	_ = os.WriteFile(certFile, certOnDisk, 0o600)
+	_ = os.Chtimes(certFile, later, later) // as it was, so the daemon does not reload
+
 	// A broken renewal (key not matching) keeps the good certificate.
 	if err := os.WriteFile(keyFile, []byte("not a key\n"), 0o600); err != nil {
 		t.Fatal(err)
