@@ -10,6 +10,7 @@ import (
 	"crypto/x509"
 	"crypto/x509/pkix"
 	"encoding/pem"
+	"errors"
 	"io"
 	"math/big"
 	"net"
@@ -279,7 +280,9 @@ func TestSlowHeadersAreCutOff(t *testing.T) {
 			break // the server has closed
 		}
 	}
-	if err := <-closed; err != nil {
+	// Closed shows as EOF, or as a reset when the server drops bytes it
+	// had not read; only our guard's timeout means it stayed open.
+	if err := <-closed; errors.Is(err, os.ErrDeadlineExceeded) {
 		t.Errorf("the server kept the slow connection open (%v); want it closed after read_header 300ms", err)
 	}
 }
