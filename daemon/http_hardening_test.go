@@ -9,15 +9,19 @@ import (
 	"crypto/tls"
 	"crypto/x509"
 	"crypto/x509/pkix"
+	"encoding/json"
 	"encoding/pem"
 	"errors"
+	"fmt"
 	"io"
 	"math/big"
 	"net"
 	"net/http"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
 	"time"
 )
@@ -349,5 +353,72 @@ func TestHTTPHardeningConfigProblems(t *testing.T) {
 		if _, err := ParseConfig("bad.yaml", []byte(conf)); err == nil || !strings.Contains(err.Error(), want) {
 			t.Errorf("%s: %v; want a problem naming %q", extra, err, want)
 		}
+	}
+}
+
+// A real Prometheus scrapes /metrics over HTTPS with basic auth, trusting
+// the daemon's certificate as its CA file, and finds the target up.
+func TestPrometheusScrapesWithTLSAndBasicAuth(t *testing.T) {
+	bin, err := exec.LookPath("prometheus")
+	if err != nil {
+		t.Skip("prometheus not on PATH (Debian: apt-get install prometheus); the authenticated scrape is not checked")
+	}
+	dir := t.TempDir()
+	certFile, keyFile, pw := filepath.Join(dir, "cert.pem"), filepath.Join(dir, "key.pem"), filepath.Join(dir, "metrics.pw")
+	writeCert(t, certFile, keyFile, 4004)
+	if err := os.WriteFile(pw, []byte("scrape-secret-42\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	d := startHardened(t, dir, "  tls: {cert_file: "+certFile+", key_file: "+keyFile+"}\n"+
+		"  metrics_auth: {username: scraper, password_file: "+pw+"}")
+	prom := &promServer{bin: bin, dir: t.TempDir(), addr: freeAddr(t)}
+	prom.start(t)
+	defer prom.stop(t)
+	// Prometheus re-reads its config on SIGHUP; the scrape job goes in now.
+	scrape := fmt.Sprintf(`global: {scrape_interval: 1s, scrape_timeout: 1s}
+scrape_configs:
+  - job_name: holdfast
+    scheme: https
+    tls_config: {ca_file: %s}
+    basic_auth: {username: scraper, password_file: %s}
+    static_configs: [{targets: ["%s"]}]
+  - job_name: holdfast-noauth
+    scheme: https
+    tls_config: {ca_file: %s}
+    static_configs: [{targets: ["%s"]}]
+`, certFile, pw, d.Addr(), certFile, d.Addr())
+	if err := os.WriteFile(filepath.Join(prom.dir, "prometheus.yml"), []byte(scrape), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	_ = prom.cmd.Process.Signal(syscall.SIGHUP)
+	health := map[string]string{}
+	for deadline := time.Now().Add(20 * time.Second); time.Now().Before(deadline); time.Sleep(200 * time.Millisecond) {
+		resp, err := http.Get("http://" + prom.addr + "/api/v1/targets")
+		if err != nil {
+			continue
+		}
+		var r struct {
+			Data struct {
+				ActiveTargets []struct {
+					ScrapePool string
+					Health     string
+					LastError  string
+				}
+			}
+		}
+		_ = json.NewDecoder(resp.Body).Decode(&r)
+		resp.Body.Close()
+		for _, tg := range r.Data.ActiveTargets {
+			health[tg.ScrapePool] = tg.Health + " " + tg.LastError
+		}
+		if strings.HasPrefix(health["holdfast"], "up") && strings.HasPrefix(health["holdfast-noauth"], "down") {
+			break
+		}
+	}
+	if !strings.HasPrefix(health["holdfast"], "up") {
+		t.Errorf("scrape with basic auth over TLS: %q, want up", health["holdfast"])
+	}
+	if h := health["holdfast-noauth"]; !strings.HasPrefix(h, "down") || !strings.Contains(h, "401") {
+		t.Errorf("scrape without credentials: %q, want down with 401", h)
 	}
 }
