@@ -1,11 +1,13 @@
 package daemon
 
 import (
+	"bytes"
 	"crypto/subtle"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"html"
+	"io"
 	"io/fs"
 	"math"
 	"net/http"
@@ -35,21 +37,37 @@ func (d *Daemon) handler() http.Handler {
 	return d.limitBody(mux)
 }
 
-// limitBody caps every request body at http.max_body_bytes: a body that
-// says it is larger is refused at once with 413, and one that turns out
-// larger (chunked) fails its handler's read with http.MaxBytesError.
+// limitBody caps every request body at http.max_body_bytes with 413: a
+// body that says it is larger is refused at once; one of unknown length
+// (chunked) is read here, up to the cap, before its handler sees it. Every
+// body the API takes is small JSON, so holding it is cheap.
 func (d *Daemon) limitBody(h http.Handler) http.Handler {
 	limit := d.cfg.HTTP.MaxBodyBytes
 	if limit <= 0 {
 		limit = defaultMaxBodyBytes
 	}
+	tooLarge := func(w http.ResponseWriter, size string) {
+		apiError(w, http.StatusRequestEntityTooLarge, fmt.Sprintf(
+			"request body %s is larger than http.max_body_bytes (%d); send less, or raise http.max_body_bytes", size, limit))
+	}
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-		if r.ContentLength > limit {
-			apiError(w, http.StatusRequestEntityTooLarge, fmt.Sprintf(
-				"request body of %d bytes is larger than http.max_body_bytes (%d); send less, or raise http.max_body_bytes", r.ContentLength, limit))
+		switch {
+		case r.ContentLength > limit:
+			tooLarge(w, fmt.Sprintf("of %d bytes", r.ContentLength))
 			return
+		case r.ContentLength < 0 && r.Body != nil && r.Body != http.NoBody:
+			b, err := io.ReadAll(http.MaxBytesReader(w, r.Body, limit))
+			if errors.As(err, new(*http.MaxBytesError)) {
+				tooLarge(w, "(sent without a length)")
+				return
+			} else if err != nil {
+				apiError(w, http.StatusBadRequest, "reading the request body: "+err.Error())
+				return
+			}
+			r.Body, r.ContentLength = io.NopCloser(bytes.NewReader(b)), int64(len(b))
+		default:
+			r.Body = http.MaxBytesReader(w, r.Body, limit)
 		}
-		r.Body = http.MaxBytesReader(w, r.Body, limit)
 		h.ServeHTTP(w, r)
 	})
 }
