@@ -366,7 +366,7 @@ func TestHTTPHardeningConfigProblems(t *testing.T) {
 		"  tls: {cert_file: /nonexistent/c.pem, key_file: /nonexistent/k.pem}":               "cannot load cert_file",
 		"  metrics_auth: {username: a, password_file: " + tok + ", token_file: " + tok + "}": "not both",
 		"  metrics_auth: {password_file: " + tok + "}":                                       "http.metrics_auth.username",
-		"  metrics_auth: {}":             "http.metrics_auth",
+		"  metrics_auth: {}":             "http.metrics_auth: empty",
 		"  timeouts: {read_header: -1s}": "http.timeouts.read_header",
 		"  max_body_bytes: -5":           "http.max_body_bytes",
 	} {
