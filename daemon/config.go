@@ -42,6 +42,11 @@ type HTTPConfig struct {
 	// TokenCredential names a systemd credential holding the token instead
 	// (LoadCredential=NAME:PATH; read from $CREDENTIALS_DIRECTORY/NAME).
 	TokenCredential string `yaml:"token_credential"`
+	// Hardening; see config_http.go.
+	TLS          *HTTPTLSConfig     `yaml:"tls"`
+	MetricsAuth  *MetricsAuthConfig `yaml:"metrics_auth"`
+	Timeouts     HTTPTimeouts       `yaml:"timeouts"`
+	MaxBodyBytes int64              `yaml:"max_body_bytes"` // largest request body; default 1 MiB
 
 	tokenCredentialPath string // set by the checker
 }

@@ -127,8 +127,8 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 	if d.rw, err = newRemoteWriter(d); err != nil {
 		return nil, err
 	}
-	if d.ln, err = net.Listen("tcp", cfg.HTTP.Listen); err != nil {
-		return nil, fmt.Errorf("http listen: %w", err)
+	if d.ln, err = d.listen(); err != nil {
+		return nil, err
 	}
 	return d, nil
 }
@@ -161,12 +161,12 @@ func (d *Daemon) Run(parent context.Context) error {
 	}
 	var handlers sync.WaitGroup // requests in flight; the store outlives them
 	h := d.handler()
-	srv := &http.Server{ReadHeaderTimeout: 5 * time.Second, BaseContext: func(net.Listener) context.Context { return ctx },
-		Handler: http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-			handlers.Add(1)
-			defer handlers.Done()
-			h.ServeHTTP(w, r)
-		})}
+	srv := d.server(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		handlers.Add(1)
+		defer handlers.Done()
+		h.ServeHTTP(w, r)
+	}))
+	srv.BaseContext = func(net.Listener) context.Context { return ctx }
 	wg.Go(func() {
 		if err := srv.Serve(d.ln); !errors.Is(err, http.ErrServerClosed) {
 			cancel(fmt.Errorf("http: %w", err))

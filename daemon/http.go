@@ -1,11 +1,13 @@
 package daemon
 
 import (
+	"bytes"
 	"crypto/subtle"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"html"
+	"io"
 	"io/fs"
 	"math"
 	"net/http"
@@ -20,10 +22,10 @@ import (
 
 func (d *Daemon) handler() http.Handler {
 	mux := http.NewServeMux()
-	mux.Handle("GET /metrics", promhttp.InstrumentMetricHandler(d.met.reg,
+	mux.Handle("GET /metrics", d.metricsAuth(promhttp.InstrumentMetricHandler(d.met.reg,
 		promhttp.HandlerFor(d.met.reg, promhttp.HandlerOpts{
 			EnableOpenMetrics: true, Registry: d.met.reg, Timeout: 10 * time.Second,
-		})))
+		}))))
 	mux.HandleFunc("GET /healthz", d.healthz)
 	mux.HandleFunc("GET /api/v1/gauges", d.apiGauges)
 	mux.HandleFunc("GET /{$}", d.landing)
@@ -32,7 +34,75 @@ func (d *Daemon) handler() http.Handler {
 	d.seriesRoutes(mux)
 	d.reportRoutes(mux)
 	d.bakeRoutes(mux)
-	return mux
+	return d.limitBody(mux)
+}
+
+// limitBody caps every request body at http.max_body_bytes with 413: a
+// body that says it is larger is refused at once; one of unknown length
+// (chunked) is read here, up to the cap, before its handler sees it. Every
+// body the API takes is small JSON, so holding it is cheap.
+func (d *Daemon) limitBody(h http.Handler) http.Handler {
+	limit := d.cfg.HTTP.MaxBodyBytes
+	if limit <= 0 {
+		limit = defaultMaxBodyBytes
+	}
+	tooLarge := func(w http.ResponseWriter, size string) {
+		apiError(w, http.StatusRequestEntityTooLarge, fmt.Sprintf(
+			"request body %s is larger than http.max_body_bytes (%d); send less, or raise http.max_body_bytes", size, limit))
+	}
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		switch {
+		case r.ContentLength > limit:
+			tooLarge(w, fmt.Sprintf("of %d bytes", r.ContentLength))
+			return
+		case r.ContentLength < 0 && r.Body != nil && r.Body != http.NoBody:
+			b, err := io.ReadAll(http.MaxBytesReader(w, r.Body, limit))
+			if errors.As(err, new(*http.MaxBytesError)) {
+				tooLarge(w, "(sent without a length)")
+				return
+			} else if err != nil {
+				apiError(w, http.StatusBadRequest, "reading the request body: "+err.Error())
+				return
+			}
+			r.Body, r.ContentLength = io.NopCloser(bytes.NewReader(b)), int64(len(b))
+		default:
+			r.Body = http.MaxBytesReader(w, r.Body, limit)
+		}
+		h.ServeHTTP(w, r)
+	})
+}
+
+// metricsAuth guards /metrics when http.metrics_auth is set: basic auth
+// or a bearer token, both compared in constant time.
+func (d *Daemon) metricsAuth(h http.Handler) http.Handler {
+	m := d.cfg.HTTP.MetricsAuth
+	if m == nil {
+		return h
+	}
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		ok := false
+		if m.token != "" {
+			got, has := strings.CutPrefix(r.Header.Get("Authorization"), "Bearer ")
+			ok = has && subtle.ConstantTimeCompare([]byte(got), []byte(m.token)) == 1
+			if !ok {
+				w.Header().Set("WWW-Authenticate", `Bearer realm="holdfast metrics"`)
+			}
+		} else if m.password != "" {
+			u, p, has := r.BasicAuth()
+			// Both compared, always, so the time does not tell which was wrong.
+			uok := subtle.ConstantTimeCompare([]byte(u), []byte(m.Username))
+			pok := subtle.ConstantTimeCompare([]byte(p), []byte(m.password))
+			ok = has && uok&pok == 1
+			if !ok {
+				w.Header().Set("WWW-Authenticate", `Basic realm="holdfast metrics", charset="UTF-8"`)
+			}
+		}
+		if !ok {
+			http.Error(w, "metrics need credentials: see http.metrics_auth in the config", http.StatusUnauthorized)
+			return
+		}
+		h.ServeHTTP(w, r)
+	})
 }
 
 func (d *Daemon) healthz(w http.ResponseWriter, _ *http.Request) {

@@ -65,5 +65,5 @@ func (d *Daemon) daemonURL(configured string) string {
 			host = name
 		}
 	}
-	return "http://" + net.JoinHostPort(host, port)
+	return d.cfg.HTTP.Scheme() + "://" + net.JoinHostPort(host, port)
 }

@@ -34,6 +34,15 @@ func addAPIFlags(fs *flag.FlagSet) *apiClient {
 	return c
 }
 
+// forConfig points the client at the daemon the config describes, over
+// HTTPS when http.tls is set.
+func (c *apiClient) forConfig(cfg *daemon.Config) {
+	c.base = cfg.HTTP.Scheme() + "://" + loopbackFor(cfg.HTTP.Listen)
+	if t := cfg.HTTP.ClientTLS(); t != nil {
+		c.http.Transport = &http.Transport{TLSClientConfig: t, Proxy: http.ProxyFromEnvironment}
+	}
+}
+
 // do sends a request with an optional JSON body and decodes a JSON reply
 // into out (when non-nil). Errors from the daemon carry its message.
 func (c *apiClient) do(ctx context.Context, method, path string, body, out any) error {

@@ -118,7 +118,7 @@ func reportBytes(ctx context.Context, api *apiClient, daemonSet bool, file, data
 			return nil, err
 		}
 		if !daemonSet {
-			api.base = "http://" + loopbackFor(cfg.HTTP.Listen)
+			api.forConfig(cfg)
 		}
 		fmt.Fprintf(stderr, "holdfast report: a daemon holds %s; asking it at %s\n", cfg.Store.Dir, api.base)
 	} else {

@@ -56,7 +56,7 @@ func (s *source) resolve(fs *flag.FlagSet) error {
 	set := false
 	fs.Visit(func(f *flag.Flag) { set = set || f.Name == "daemon" })
 	if !set {
-		s.api.base = "http://" + loopbackFor(cfg.HTTP.Listen)
+		s.api.forConfig(cfg)
 	}
 	return nil
 }
