@@ -30,6 +30,9 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	if err != nil {
 		return configFailed(stderr, err)
 	}
+	for _, w := range daemon.SecretWarnings(cfg) {
+		log.Warn("config: "+w, "config", *file)
+	}
 	d, err := daemon.New(cfg, daemon.Options{Log: log})
 	if err != nil {
 		return err
