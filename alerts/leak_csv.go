@@ -172,6 +172,9 @@ func parseRiseFields(f []string) (t, p float64, ps string, err error) {
 	if err != nil || !isFinite(p) {
 		return 0, 0, "", fmt.Errorf("pressure %q is not a number", ps)
 	}
+	if p < 0 {
+		return 0, 0, "", fmt.Errorf("pressure %q is negative; an absolute pressure is never below 0 (a gauge's offset is corrected before the record is written)", ps)
+	}
 	return t, p, ps, nil
 }
 

@@ -113,6 +113,7 @@ func check(cfg *Config, prior []Problem) []Problem {
 	v.report(cfg.Report)
 	v.remoteWrite(cfg.RemoteWrite)
 	v.bake(cfg.Bake)
+	v.agree(cfg)
 	slices.SortStableFunc(cfg.Notes, func(a, b string) int { return cmp.Compare(noteLine(a), noteLine(b)) })
 	return v.probs
 }
@@ -163,6 +164,9 @@ func (v *checker) driverErrs(path string, err error) {
 			f, rest, ok := strings.Cut(msg, ": ")
 			if !ok || f == "" || strings.ContainsAny(f, " \"'") {
 				break
+			}
+			if rest, ok := strings.CutPrefix(f, "backoff"); ok { // the drivers' name for the config's reconnect:
+				f = "reconnect" + rest
 			}
 			if f != "modbus" || !strings.Contains(path, "modbus_") { // the link's kind is already in path
 				field += "." + f

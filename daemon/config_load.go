@@ -80,6 +80,7 @@ func parseConfig(name string, b []byte, checkOnly bool) (*Config, error) {
 	}
 	var probs []Problem
 	walkKeys(doc, reflect.TypeFor[Config](), "", cfg.lines, &probs)
+	duplicateKeys(doc, "", &probs)
 	if err := doc.Decode(cfg); err != nil {
 		var te *yaml.TypeError
 		if !errors.As(err, &te) {

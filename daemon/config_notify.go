@@ -254,6 +254,7 @@ func (v *checker) secret(r secretRef) []byte {
 		v.note(fileP, "only root can read %s; the shipped unit runs holdfast as its own user (DynamicUser=yes), which "+
 			"cannot: pass it as a credential (LoadCredential=%s:%s in the unit, %s: %s here)", r.file, cred, r.file, r.credKey, cred)
 	}
+	v.secretMode(fileP, r.file)
 	b = bytes.TrimSpace(b)
 	v.expect(len(b) > 0, fileP, "%s is empty; put the secret in it", r.file)
 	return b

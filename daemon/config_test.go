@@ -101,7 +101,7 @@ func TestExamplesAreValid(t *testing.T) {
 	files = append(files, filepath.Join("..", "testdata", "config", "minimal.yaml"))
 	for _, f := range files {
 		t.Run(filepath.Base(f), func(t *testing.T) {
-			if _, err := CheckConfig(f); err != nil {
+			if _, err := CheckConfig(withToken(t, f)); err != nil {
 				t.Errorf("%v", err)
 			}
 		})

@@ -30,6 +30,9 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	if err != nil {
 		return configFailed(stderr, err)
 	}
+	for _, w := range daemon.SecretWarnings(cfg) {
+		log.Warn("config: "+w, "config", *file)
+	}
 	d, err := daemon.New(cfg, daemon.Options{Log: log})
 	if err != nil {
 		return err
@@ -38,7 +41,7 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 }
 
 func cmdCheck(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("check", "--config FILE [FILE...]\n\nReads each config file and prints every problem at once as\nFILE:LINE: path: what is wrong and what is expected, exiting 1; a valid\nfile gets a one-line summary. Secret files that cannot be read here are\nnoted, not refused (the daemon's machine must have them).", stderr)
+	fs := newFlags("check", "--config FILE [FILE...]\n\nReads each config file and prints every problem at once as\nFILE:LINE: path: what is wrong and what is expected, exiting 1; a valid\nfile gets a one-line summary. Secret files that cannot be read here are\nnoted, not refused (the daemon's machine must have them); a missing, empty\nor short http.token_file is refused, as the daemon would refuse it.", stderr)
 	file := fs.String("config", "", "config `file` to check; more files may follow as arguments")
 	if err := fs.Parse(args); err != nil {
 		return err
