@@ -196,9 +196,16 @@ func (db *DB) DeleteBefore(series string, t time.Time) (int, error) {
 		if next == nil {
 			return deleted, errors.Join(errs...)
 		}
+		if betweenBatches != nil {
+			betweenBatches()
+		}
 		resume = next
 	}
 }
+
+// betweenBatches, when set (by tests), runs between two retention
+// transactions, holding no lock.
+var betweenBatches func()
 
 // deleteChunkBatch deletes up to deleteBatch chunks of series lying wholly
 // before cut, from the key resume on (the first chunk when nil). It returns

@@ -137,7 +137,10 @@ func (r *reducer) bucketOf(ns int64) uint64 {
 	return q
 }
 
-func (r *reducer) add(p Point) {
+func (r *reducer) add(p Point) { r.addAt(p, p.At.UnixNano()) }
+
+// addAt adds p as if its time were ns (for the bucket only).
+func (r *reducer) addAt(p Point, ns int64) {
 	seq := r.n
 	r.n++
 	if r.n <= r.points+1 {
@@ -145,7 +148,7 @@ func (r *reducer) add(p Point) {
 	} else {
 		r.raw = nil
 	}
-	b := r.bucketOf(p.At.UnixNano())
+	b := r.bucketOf(ns)
 	if len(r.fine) == 0 || r.fine[len(r.fine)-1].idx != b {
 		r.fine = append(r.fine, bucket{idx: b})
 	}

@@ -72,13 +72,17 @@ func bucketStart(t time.Time, width time.Duration) time.Time {
 	return time.Unix(0, floorNano(t.UnixNano(), int64(width))).UTC()
 }
 
-// floorNano rounds ns down to a multiple of w, towards the past.
+// floorNano rounds ns down to a multiple of w, towards the past,
+// saturating at the earliest time.
 func floorNano(ns, w int64) int64 {
-	q := ns / w
-	if ns%w < 0 {
-		q--
+	r := ns % w
+	switch {
+	case r >= 0:
+		return ns - r
+	case ns-r < -1<<63+w:
+		return -1 << 63
 	}
-	return q * w
+	return ns - r - w
 }
 
 // newRollup returns an empty roll-up for [start, start+width).

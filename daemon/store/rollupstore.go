@@ -409,6 +409,9 @@ func (db *DB) DeleteRollupsBefore(series string, t Tier, before time.Time) (int,
 		if !more {
 			return total, nil
 		}
+		if betweenBatches != nil {
+			betweenBatches()
+		}
 	}
 }
 
