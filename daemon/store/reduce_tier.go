@@ -230,39 +230,56 @@ func distinct(r Rollup) []Point {
 }
 
 // addRollup puts a roll-up's points into the fine bucket of its start
-// (clamped to lo), in the slots the points themselves would take.
+// (clamped to lo), in the slots the points themselves would take, numbered
+// in time order (slot order on equal times) as a stream of them would be.
 func (r *reducer) addRollup(c Rollup, lo int64) {
 	r.n += c.Count
 	r.notOK += c.NotOK
-	at := max(c.Start.UnixNano(), lo)
-	b := r.bucketOf(at)
+	b := r.bucketOf(max(c.Start.UnixNano(), lo))
 	if len(r.fine) == 0 || r.fine[len(r.fine)-1].idx != b {
 		r.fine = append(r.fine, bucket{idx: b})
 	}
 	f := &r.fine[len(r.fine)-1]
-	seqOf := map[int]int{}
-	for i, p := range distinct(c) {
-		for j, s := range c.slots() {
-			if _, done := seqOf[j]; !done && sameBits(*s, p) {
-				seqOf[j] = r.seq + i
+	var sl [6]Point
+	n := 0
+	if c.Valid > 0 {
+		sl[0], sl[1], sl[2], sl[3] = c.First, c.MinPoint, c.MaxPoint, c.Last
+		n = 4
+	}
+	if c.Marks() > 0 {
+		sl[n], sl[n+1] = c.FirstMark, c.LastMark
+		n += 2
+	}
+	var canon [6]int // the first slot holding the same point
+	for j := range n {
+		canon[j] = j
+		for i := range j {
+			if canon[i] == i && sameBits(sl[i], sl[j]) {
+				canon[j] = i
+				break
 			}
 		}
 	}
-	slots := c.slots()
-	r.seq += len(slots)
-	sl := func(j int) slot { return slot{true, seqOf[j], *slots[j]} }
-	j := 0
+	seq := func(j int) slot {
+		c, rank := canon[j], 0
+		for k := range n {
+			if canon[k] == k && (sl[k].At.Before(sl[c].At) || sl[k].At.Equal(sl[c].At) && k < c) {
+				rank++
+			}
+		}
+		return slot{true, r.seq + rank, sl[j]}
+	}
 	if c.Valid > 0 {
-		f.firstOK = earlier(f.firstOK, sl(0))
-		f.minOK = lower(f.minOK, sl(1))
-		f.maxOK = higher(f.maxOK, sl(2))
-		f.lastOK = later(f.lastOK, sl(3))
-		j = 4
+		f.firstOK = earlier(f.firstOK, seq(0))
+		f.minOK = lower(f.minOK, seq(1))
+		f.maxOK = higher(f.maxOK, seq(2))
+		f.lastOK = later(f.lastOK, seq(3))
 	}
 	if c.Marks() > 0 {
-		f.firstBad = earlier(f.firstBad, sl(j))
-		f.lastBad = later(f.lastBad, sl(j+1))
+		f.firstBad = earlier(f.firstBad, seq(n-2))
+		f.lastBad = later(f.lastBad, seq(n-1))
 	}
+	r.seq += n
 }
 
 // gapLimit is GapLimit for buckets whose edges moved by up to snap.

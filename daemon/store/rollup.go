@@ -56,10 +56,15 @@ func (r Rollup) Marks() int { return r.Count - r.Valid }
 // width must be positive.
 func ComputeRollups(pts []Point, width time.Duration) []Rollup {
 	var out []Rollup
+	end := int64(-1 << 63) // of the last interval, exclusive
 	for _, p := range pts {
-		start := bucketStart(p.At, width)
-		if len(out) == 0 || !out[len(out)-1].Start.Equal(start) {
-			out = append(out, newRollup(start, width))
+		if ns := p.At.UnixNano(); len(out) == 0 || ns >= end {
+			start := floorNano(ns, int64(width))
+			out = append(out, newRollup(time.Unix(0, start).UTC(), width))
+			end = start + int64(width)
+			if end < start { // the last interval before 2262
+				end = 1<<63 - 1
+			}
 		}
 		out[len(out)-1].add(p)
 	}

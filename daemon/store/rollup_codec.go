@@ -33,8 +33,10 @@ const (
 )
 
 // slots returns the points a record keeps, in slot order.
-func (r *Rollup) slots() []*Point {
-	var s []*Point
+func (r *Rollup) slots() []*Point { return r.slotsTo(nil) }
+
+// slotsTo is slots appending to s.
+func (r *Rollup) slotsTo(s []*Point) []*Point {
 	if r.Valid > 0 {
 		s = append(s, &r.First, &r.MinPoint, &r.MaxPoint, &r.Last)
 	}
@@ -145,7 +147,8 @@ func decodeRollup(b []byte, start time.Time, width time.Duration) (Rollup, error
 	if n > 6 {
 		return r, errRollup("point count")
 	}
-	pts := make([]Point, n)
+	var buf [6]Point
+	pts := buf[:n]
 	s0 := start.UnixNano()
 	for i := range pts {
 		off := d.uvarint()
@@ -169,7 +172,8 @@ func decodeRollup(b []byte, start time.Time, width time.Duration) (Rollup, error
 		pts[i] = Point{At: time.Unix(0, s0+int64(off)).UTC(), Raw: math.Float64frombits(raw),
 			Value: math.Float64frombits(val), Quality: q, Calibration: uint32(cal)}
 	}
-	for _, p := range r.slots() {
+	var ps [6]*Point
+	for _, p := range r.slotsTo(ps[:0]) {
 		j := int(d.byte())
 		if j >= len(pts) {
 			return r, errRollup("slot")
