@@ -1,7 +1,9 @@
 package store
 
 import (
+	"encoding/binary"
 	"fmt"
+	"maps"
 	"slices"
 	"time"
 
@@ -43,7 +45,8 @@ func (t Tier) Width() time.Duration {
 }
 
 // Buckets of the roll-up tiers, each holding one nested bucket per series
-// with a record (rollup_codec.go) per interval under chunkKey(start); and
+// with a group of roll-ups (rollup_codec.go: an hour of minutes, a day of
+// hours) under chunkKey(the group's start); and
 // horizons/<series>/<tier> (8 bytes, ns, as chunkKey): the tier's data
 // is complete at and after that time, older data of the tier having been
 // deleted by retention. No horizon means nothing was ever deleted.
@@ -134,24 +137,59 @@ func (db *DB) Horizons(series string) ([3]time.Time, error) {
 	return out, err
 }
 
+// loadGroup decodes series' stored group of tier t starting at gs (ns);
+// none stored gives nil.
+func loadGroup(b *bolt.Bucket, t Tier, gs int64) ([]Rollup, error) {
+	v := b.Get(chunkKey(gs))
+	if v == nil {
+		return nil, nil
+	}
+	return decodeGroup(v, time.Unix(0, gs).UTC(), t.Width(), groupWidth(t))
+}
+
+// storeGroup writes the group of tier t starting at gs, or deletes it
+// when rs is empty.
+func storeGroup(b *bolt.Bucket, t Tier, gs int64, rs []Rollup) error {
+	if len(rs) == 0 {
+		return b.Delete(chunkKey(gs))
+	}
+	return b.Put(chunkKey(gs), encodeGroup(time.Unix(0, gs).UTC(), t.Width(), rs))
+}
+
+// byGroup splits roll-ups sorted by Start into runs of one group each.
+func byGroup(rs []Rollup, t Tier) [][]Rollup {
+	g := int64(groupWidth(t))
+	var out [][]Rollup
+	for i := 0; i < len(rs); {
+		gs := floorNano(rs[i].Start.UnixNano(), g)
+		j := i + 1
+		for j < len(rs) && floorNano(rs[j].Start.UnixNano(), g) == gs {
+			j++
+		}
+		out = append(out, rs[i:j])
+		i = j
+	}
+	return out
+}
+
 // addRollups folds a flush's sorted new points of series into its stored
-// minute and hour roll-ups, in the flush's transaction: each interval's
-// record is read, combined with the new points' roll-up and written back.
-// A record that cannot be read is replaced (roll-ups are derived data).
+// minute and hour roll-ups, in the flush's transaction: each group the
+// points touch is read, each of its roll-ups combined with the new points'
+// and the group written back. A group that cannot be read is replaced
+// (roll-ups are derived data).
 func addRollups(tx *bolt.Tx, series string, pts []Point) error {
 	for _, t := range []Tier{TierMinute, TierHour} {
 		b, err := rollupBucket(tx, t, series, true)
 		if err != nil {
 			return err
 		}
-		for _, r := range ComputeRollups(pts, t.Width()) {
-			k := chunkKey(r.Start.UnixNano())
-			if old := b.Get(k); old != nil {
-				if o, err := decodeRollup(old, r.Start, t.Width()); err == nil {
-					r = combine(o, r)
-				}
+		for _, add := range byGroup(ComputeRollups(pts, t.Width()), t) {
+			gs := floorNano(add[0].Start.UnixNano(), int64(groupWidth(t)))
+			old, err := loadGroup(b, t, gs)
+			if err != nil {
+				old = nil
 			}
-			if err := b.Put(k, encodeRollup(r)); err != nil {
+			if err := storeGroup(b, t, gs, mergeRollupLists(old, add)); err != nil {
 				return err
 			}
 		}
@@ -159,7 +197,24 @@ func addRollups(tx *bolt.Tx, series string, pts []Point) error {
 	return nil
 }
 
-// readRollups decodes series' records of tier t whose intervals lie
+// mergeRollupLists merges two lists of roll-ups of one width, each sorted
+// by Start: roll-ups of the same interval are combined (a's first).
+func mergeRollupLists(a, b []Rollup) []Rollup {
+	out := make([]Rollup, 0, len(a)+len(b))
+	for len(a) > 0 && len(b) > 0 {
+		switch c := a[0].Start.Compare(b[0].Start); {
+		case c < 0:
+			out, a = append(out, a[0]), a[1:]
+		case c > 0:
+			out, b = append(out, b[0]), b[1:]
+		default:
+			out, a, b = append(out, combine(a[0], b[0])), a[1:], b[1:]
+		}
+	}
+	return append(append(out, a...), b...)
+}
+
+// readRollups decodes series' roll-ups of tier t whose intervals lie
 // wholly in [lo, hi), in time order, and appends them to dst.
 func readRollups(tx *bolt.Tx, dst []Rollup, series string, t Tier, lo, hi int64) ([]Rollup, error) {
 	b, _ := rollupBucket(tx, t, series, false)
@@ -168,19 +223,23 @@ func readRollups(tx *bolt.Tx, dst []Rollup, series string, t Tier, lo, hi int64)
 	}
 	w := int64(t.Width())
 	c := b.Cursor()
-	for k, v := c.Seek(chunkKey(lo)); k != nil; k, v = c.Next() {
-		s, ok := keyTime(k)
+	for k, v := c.Seek(chunkKey(floorNano(lo, int64(groupWidth(t))))); k != nil; k, v = c.Next() {
+		gs, ok := keyTime(k)
 		if !ok || v == nil {
 			continue
 		}
-		if s >= hi || s > hi-w {
+		if gs >= hi {
 			break
 		}
-		r, err := decodeRollup(v, time.Unix(0, s).UTC(), t.Width())
+		rs, err := decodeGroup(v, time.Unix(0, gs).UTC(), t.Width(), groupWidth(t))
 		if err != nil {
-			return dst, fmt.Errorf("series %q: %s roll-up at %s: %w", series, t, time.Unix(0, s).UTC().Format(time.RFC3339), err)
+			return dst, fmt.Errorf("series %q: %s roll-ups from %s: %w", series, t, time.Unix(0, gs).UTC().Format(time.RFC3339), err)
 		}
-		dst = append(dst, r)
+		for _, r := range rs {
+			if s := r.Start.UnixNano(); s >= lo && s <= hi-w {
+				dst = append(dst, r)
+			}
+		}
 	}
 	return dst, nil
 }
@@ -345,28 +404,35 @@ func rebuildTx(tx *bolt.Tx, series string, a, b int64) (int64, []error, error) {
 	return next, bad, replaceRollups(tx, series, TierHour, a, b, hours)
 }
 
-// replaceRollups deletes series' records of tier t starting in [lo, hi)
-// and writes rs in their place.
+// replaceRollups deletes series' roll-ups of tier t starting in [lo, hi)
+// and writes rs (sorted, all starting in [lo, hi)) in their place.
 func replaceRollups(tx *bolt.Tx, series string, t Tier, lo, hi int64, rs []Rollup) error {
 	b, err := rollupBucket(tx, t, series, true)
 	if err != nil {
 		return err
 	}
-	var keys [][]byte
+	g := int64(groupWidth(t))
+	groups := map[int64][]Rollup{} // every group touched: the stored ones in range and rs's
 	c := b.Cursor()
-	for k, _ := c.Seek(chunkKey(lo)); k != nil; k, _ = c.Next() {
-		if kt, ok := keyTime(k); ok && kt >= hi {
+	for k, _ := c.Seek(chunkKey(floorNano(lo, g))); k != nil; k, _ = c.Next() {
+		gs, ok := keyTime(k)
+		if ok && gs >= hi {
 			break
 		}
-		keys = append(keys, slices.Clone(k))
-	}
-	for _, k := range keys { // collected first: deleting under a cursor may skip keys
-		if err := b.Delete(k); err != nil {
-			return err
+		if ok {
+			groups[gs] = nil
 		}
 	}
-	for _, r := range rs {
-		if err := b.Put(chunkKey(r.Start.UnixNano()), encodeRollup(r)); err != nil {
+	for _, run := range byGroup(rs, t) {
+		groups[floorNano(run[0].Start.UnixNano(), g)] = run
+	}
+	for _, gs := range slices.Sorted(maps.Keys(groups)) { // not under the cursor: storing may delete
+		old, err := loadGroup(b, t, gs)
+		if err != nil {
+			old = nil // unreadable: rebuilt from what is given
+		}
+		kept := slices.DeleteFunc(old, func(r Rollup) bool { s := r.Start.UnixNano(); return s >= lo && s < hi })
+		if err := storeGroup(b, t, gs, mergeRollupLists(kept, groups[gs])); err != nil {
 			return err
 		}
 	}
@@ -390,15 +456,16 @@ func ceilNano(ns, w int64) int64 {
 const deleteBatch = 512
 
 // DeleteRollupsBefore deletes series' roll-ups of tier t (TierMinute or
-// TierHour) whose intervals end at or before before, and returns how many
-// went. It works in transactions of at most 512 records; a Flush may run
-// between them.
+// TierHour) in whole stored groups (an hour of minutes, a day of hours)
+// that end at or before before, and returns how many roll-ups went. It
+// works in transactions of at most 512 groups; a Flush may run between
+// them.
 func (db *DB) DeleteRollupsBefore(series string, t Tier, before time.Time) (int, error) {
 	if t != TierMinute && t != TierHour {
 		return 0, fmt.Errorf("delete roll-ups of tier %s: ask for minute or hour", t)
 	}
 	cut := clampNano(before)
-	w := int64(t.Width())
+	w := int64(groupWidth(t))
 	total := 0
 	for {
 		n, more, err := db.deleteRollupBatch(series, t, cut, w)
@@ -433,7 +500,7 @@ func (db *DB) deleteRollupBatch(series string, t Tier, cut, w int64) (int, bool,
 		var keys [][]byte
 		end := int64(-1 << 63)
 		c := b.Cursor()
-		for k, _ := c.First(); k != nil; k, _ = c.Next() {
+		for k, v := c.First(); k != nil; k, v = c.Next() {
 			kt, ok := keyTime(k)
 			if !ok {
 				continue
@@ -447,14 +514,17 @@ func (db *DB) deleteRollupBatch(series string, t Tier, cut, w int64) (int, bool,
 			}
 			keys = append(keys, slices.Clone(k))
 			end = kt + w
+			if len(v) > 5 {
+				members, _ := binary.Uvarint(v[5:])
+				n += int(members)
+			}
 		}
 		for _, k := range keys {
 			if err := b.Delete(k); err != nil {
 				return err
 			}
 		}
-		n = len(keys)
-		if n == 0 {
+		if len(keys) == 0 {
 			return nil
 		}
 		return raiseHorizon(tx, series, t, end)
