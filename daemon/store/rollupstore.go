@@ -178,12 +178,17 @@ func byGroup(rs []Rollup, t Tier) [][]Rollup {
 // and the group written back. A group that cannot be read is replaced
 // (roll-ups are derived data).
 func addRollups(tx *bolt.Tx, series string, pts []Point) error {
+	mins := ComputeRollups(pts, RollupMinute)
 	for _, t := range []Tier{TierMinute, TierHour} {
 		b, err := rollupBucket(tx, t, series, true)
 		if err != nil {
 			return err
 		}
-		for _, add := range byGroup(ComputeRollups(pts, t.Width()), t) {
+		rs := mins
+		if t == TierHour {
+			rs = hoursOf(mins) // one pass over the points, not two
+		}
+		for _, add := range byGroup(rs, t) {
 			gs := floorNano(add[0].Start.UnixNano(), int64(groupWidth(t)))
 			old, err := loadGroup(b, t, gs)
 			if err != nil {
@@ -390,18 +395,22 @@ func rebuildTx(tx *bolt.Tx, series string, a, b int64) (int64, []error, error) {
 	if err != nil {
 		return next, bad, err
 	}
+	return next, bad, replaceRollups(tx, series, TierHour, a, b, hoursOf(mins))
+}
+
+// hoursOf combines minute roll-ups sorted by Start into hour roll-ups.
+func hoursOf(mins []Rollup) []Rollup {
 	var hours []Rollup
 	for _, m := range mins {
 		hs := bucketStart(m.Start, RollupHour)
 		if len(hours) == 0 || !hours[len(hours)-1].Start.Equal(hs) {
 			hours = append(hours, newRollup(hs, RollupHour))
 		}
-		hours[len(hours)-1] = combine(hours[len(hours)-1], m)
+		h := &hours[len(hours)-1]
+		*h = combine(*h, m)
+		h.Start, h.End = hs, hs.Add(RollupHour) // combine took the minute's; an hour spans the hour
 	}
-	for i := range hours { // combine took the first minute's Start and End; an hour spans the hour
-		hours[i].Start, hours[i].End = bucketStart(hours[i].Start, RollupHour), bucketStart(hours[i].Start, RollupHour).Add(RollupHour)
-	}
-	return next, bad, replaceRollups(tx, series, TierHour, a, b, hours)
+	return hours
 }
 
 // replaceRollups deletes series' roll-ups of tier t starting in [lo, hi)
