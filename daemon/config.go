@@ -62,10 +62,10 @@ func (h HTTPConfig) TokenPath() string {
 
 // StoreConfig says where samples are kept.
 type StoreConfig struct {
-	Dir        string   `yaml:"dir"`         // data directory; holds holdfast.db
-	FlushEvery Duration `yaml:"flush_every"` // batch interval; default 1s
-	Retention  Duration `yaml:"retention"`   // delete samples older than this (whole chunks); 0 keeps everything
-	Resolution Duration `yaml:"resolution"`  // sample times are kept to this; default 1ms; must divide 1s
+	Dir        string    `yaml:"dir"`         // data directory; holds holdfast.db
+	FlushEvery Duration  `yaml:"flush_every"` // batch interval; default 1s
+	Retention  Retention `yaml:"retention"`   // how long raw samples and roll-ups are kept (config_retention.go); zero keeps everything
+	Resolution Duration  `yaml:"resolution"`  // sample times are kept to this; default 1ms; must divide 1s
 }
 
 // LinkConfig is one physical connection. Exactly one kind is set.

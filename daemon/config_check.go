@@ -89,8 +89,7 @@ func check(cfg *Config, prior []Problem) []Problem {
 	}
 	v.checkHTTPHardening(&cfg.HTTP)
 	v.expect(cfg.Store.Dir != "", "store.dir", "missing; say where samples are kept, e.g. dir: /var/lib/holdfast")
-	v.expect(cfg.Store.Retention == 0 || cfg.Store.Retention.D() >= 24*time.Hour, "store.retention",
-		"keep at least a day of samples (e.g. retention: 30d), got %s", shortDuration(cfg.Store.Retention.D()))
+	v.checkRetention(cfg.Store.Retention)
 	if cfg.Store.FlushEvery == 0 {
 		cfg.Store.FlushEvery = Duration(defaultFlushEvery)
 	}

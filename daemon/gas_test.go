@@ -269,3 +269,42 @@ func TestReprocessEqualsLiveWithCorrections(t *testing.T) {
 		})
 	}
 }
+
+// Reprocessing rewrites stored values; the store's minute and hour
+// roll-ups must follow, or a long query would still plot the old values.
+func TestReprocessKeepsRollupsWithTheSamples(t *testing.T) {
+	pir := fakeGauge("pir", time.Second, nil)
+	pir.transfer = calib.HeatLoss{S0: 2, A: 0.5, Pt: 100} // REFERENCES.md §5b invented example sensor
+	d := testDaemon(t, pir)
+	if err := d.loadCalibrations(); err != nil {
+		t.Fatal(err)
+	}
+	ctx := context.Background()
+	log := slog.New(slog.DiscardHandler)
+	t0 := time.Date(2026, 5, 1, 0, 0, 0, 0, time.UTC)
+	for i := range 300 { // five minutes at 1 Hz
+		d.handle(ctx, log, pir, drivers.Reading{Raw: 3 + 0.01*float64(i), Status: drivers.StatusOK, At: t0.Add(time.Duration(i) * time.Second)}, nil)
+	}
+	if err := d.store.Flush(); err != nil {
+		t.Fatal(err)
+	}
+	pir.corr = &correction{gas: &calib.GasFactor{Gas: "Ar", Factor: 1.7}} // a gas correction decided afterwards
+	a, err := d.reprocess(reprocessRequest{Gauge: "pir", Calibration: 0, From: t0, To: t0.Add(time.Hour)})
+	if err != nil || a.Changed != 300 {
+		t.Fatalf("reprocess changed %d, %v; want all 300", a.Changed, err)
+	}
+	mins, err := d.store.Rollups("pir", store.TierMinute, t0, t0.Add(time.Hour))
+	if err != nil || len(mins) != 5 {
+		t.Fatalf("%d minute roll-ups, %v; want 5", len(mins), err)
+	}
+	for _, m := range mins { // each equals the plain aggregate of the reprocessed samples
+		n, lo, hi := 0, math.Inf(1), math.Inf(-1)
+		_ = d.store.Range("pir", m.Start, m.End, func(p store.Point) bool {
+			n, lo, hi = n+1, min(lo, p.Value), max(hi, p.Value)
+			return true
+		})
+		if m.Count != n || m.Min != lo || m.Max != hi {
+			t.Errorf("minute %s: count %d, min %g, max %g; the samples give %d, %g, %g", m.Start, m.Count, m.Min, m.Max, n, lo, hi)
+		}
+	}
+}

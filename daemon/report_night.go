@@ -142,19 +142,16 @@ func reportSeries(cfg *Config, db *store.DB, name string, from, to time.Time) (r
 	iv := gaugeInterval(cfg, name)
 	bucket := to.Sub(from) / time.Duration(reportPoints/5)
 	s := report.Series{Gauge: name, Kind: g.Kind, MaxStep: max(3*iv+g.Timeout.D(), bucket*5/2)}
-	pts, err := db.Reduce(name, from, to, reportPoints)
-	s.Points = make([]report.Point, 0, len(pts))
-	for _, p := range pts {
+	red, err := db.ReduceTiered(name, from, to, reportPoints) // roll-ups over long spans; counts either way
+	s.Points = make([]report.Point, 0, len(red.Points))
+	for _, p := range red.Points {
 		s.Points = append(s.Points, reportPoint(p))
 	}
-	cerr := db.Range(name, from, to, func(p store.Point) bool {
-		s.Stored++
-		if p.Quality != 0 {
-			s.NotOK++
-		}
-		return true
-	})
-	return s, errors.Join(err, cerr)
+	s.Stored, s.NotOK = red.Count, red.NotOK
+	if red.Tier != store.TierRaw { // bucket edges on whole minutes or hours widen the buckets
+		s.MaxStep = max(s.MaxStep, red.GapLimit)
+	}
+	return s, err
 }
 
 func reportPoint(p store.Point) report.Point {

@@ -14,10 +14,14 @@ import (
 
 // benchNight stores 8 h of one invented gauge at hz samples per second
 // (3 significant digits, a slow drift), flushed in 10-minute batches.
-func benchNight(b *testing.B, hz int) *store.DB {
+func benchNight(b *testing.B, hz int) *store.DB { return benchSpan(b, hz, 8*time.Hour) }
+
+// benchSpan stores span of one invented gauge at hz samples per second,
+// as benchNight does.
+func benchSpan(b *testing.B, hz int, span time.Duration) *store.DB {
 	b.Helper()
 	db, _ := openStore(b)
-	n := 8 * 3600 * hz
+	n := int(span/time.Second) * hz
 	step := time.Second / time.Duration(hz)
 	for i := range n {
 		v := 2e-3 * (1 + 0.5*math.Sin(float64(i)/float64(600*hz)))
@@ -36,20 +40,37 @@ func benchNight(b *testing.B, hz int) *store.DB {
 }
 
 // BenchmarkReduceNight: a plot's query, 8 h of one gauge reduced to 1000
-// points.
+// points (buckets of 87 s: read from the minute roll-ups), warm (the same
+// query again and again, the file's pages in memory), through Query as
+// GET /api/v1/series runs it.
 func BenchmarkReduceNight(b *testing.B) {
 	for _, hz := range []int{1, 10} {
 		b.Run(map[int]string{1: "1Hz", 10: "10Hz"}[hz], func(b *testing.B) {
-			db := benchNight(b, hz)
-			for b.Loop() {
-				pts, err := db.Reduce("chamber", night0, night0.Add(8*time.Hour), 1000)
-				if err != nil || len(pts) > 1000 {
-					b.Fatal(len(pts), err)
-				}
-			}
-			b.ReportMetric(float64(b.Elapsed().Milliseconds())/float64(b.N), "ms/query")
+			benchQuery(b, benchNight(b, hz), 8*time.Hour)
 		})
 	}
+}
+
+// BenchmarkReduceMonth: 30 days of one gauge at 1 Hz (2.6 million
+// samples) reduced to 1000 points (buckets of 2.2 h: the hour roll-ups).
+func BenchmarkReduceMonth(b *testing.B) {
+	benchQuery(b, benchSpan(b, 1, 30*24*time.Hour), 30*24*time.Hour)
+}
+
+// benchQuery runs the query of span from night0 and reports ms/query and
+// what it read.
+func benchQuery(b *testing.B, db *store.DB, span time.Duration) {
+	q := Query{Series: []string{"chamber"}, From: night0, To: night0.Add(span), Points: 1000}
+	var res QueryResult
+	for b.Loop() {
+		var err error
+		if res, err = q.Run(db); err != nil || len(res.Series[0].Samples) > 1100 {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Microseconds())/1e3/float64(b.N), "ms/query")
+	b.ReportMetric(float64(res.Series[0].Stored), "samples")
+	b.Logf("resolution %s, %d entries", res.Series[0].Resolution, len(res.Series[0].Samples))
 }
 
 // BenchmarkExportCSV reports samples per second written as CSV.

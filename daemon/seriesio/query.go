@@ -36,10 +36,18 @@ type QueryResult struct {
 
 // A SeriesResult is one series of a QueryResult.
 type SeriesResult struct {
-	Gauge    string  `json:"gauge"`
-	Kind     string  `json:"kind,omitempty"`
-	GapLimit float64 `json:"gap_limit_seconds"` // consecutive points further apart are separated by a gap entry
-	Samples  []Entry `json:"samples"`
+	Gauge string `json:"gauge"`
+	Kind  string `json:"kind,omitempty"`
+	// Resolution says what the samples were chosen from: "raw" (every stored
+	// sample), "minute" or "hour" (the store's roll-ups, read for wide
+	// buckets and where retention has already deleted the raw samples).
+	// Either way every entry is a stored sample, bit for bit; from roll-ups
+	// the buckets' edges fall on whole minutes or hours.
+	Resolution string  `json:"resolution"`
+	Stored     int     `json:"stored_samples"`    // stored samples in the span (the ones the result stands for)
+	NotOK      int     `json:"not_ok_samples"`    // of them, samples whose quality is not ok
+	GapLimit   float64 `json:"gap_limit_seconds"` // consecutive points further apart are separated by a gap entry
+	Samples    []Entry `json:"samples"`
 }
 
 // An Entry is a stored sample or, when Gap is set, a stretch with no sample
@@ -86,14 +94,15 @@ func (q Query) Run(db *store.DB) (QueryResult, error) {
 		Capped: q.Points > store.MaxReducePoints}
 	var errs []error
 	for _, s := range q.Series {
-		pts, err := db.Reduce(s, q.From, q.To, res.Points)
+		red, err := db.ReduceTiered(s, q.From, q.To, res.Points)
 		var ce *store.ChunkError
 		if err != nil && !errors.As(err, &ce) {
 			return res, fmt.Errorf("%s: %w", s, err)
 		}
 		errs = append(errs, err)
-		limit := store.GapLimit(pts, q.From, q.To, res.Points)
-		sr := SeriesResult{Gauge: s, Kind: q.Kinds[s], GapLimit: limit.Seconds(), Samples: make([]Entry, 0, len(pts))}
+		pts, limit := red.Points, red.GapLimit
+		sr := SeriesResult{Gauge: s, Kind: q.Kinds[s], Resolution: red.Tier.String(), Stored: red.Count, NotOK: red.NotOK,
+			GapLimit: limit.Seconds(), Samples: make([]Entry, 0, len(pts))}
 		for i, p := range pts {
 			if i > 0 && p.At.Sub(pts[i-1].At) > limit {
 				sr.Samples = append(sr.Samples, Entry{Gap: &Gap{pts[i-1].At, p.At, p.At.Sub(pts[i-1].At).Seconds()}})
@@ -161,7 +170,11 @@ func (r QueryResult) WriteText(w io.Writer) error {
 	bw := bufio.NewWriter(w)
 	for _, s := range r.Series {
 		unit := map[string]string{"pressure": "Pa", "temperature": "°C"}[s.Kind]
-		fmt.Fprintf(bw, "%s  %s … %s  (%d points)\n", s.Gauge, r.From.Format(time.RFC3339), r.To.Format(time.RFC3339), len(s.Samples))
+		from := ""
+		if s.Resolution != "" && s.Resolution != store.TierRaw.String() {
+			from = ", chosen from " + s.Resolution + " roll-ups"
+		}
+		fmt.Fprintf(bw, "%s  %s … %s  (%d points%s)\n", s.Gauge, r.From.Format(time.RFC3339), r.To.Format(time.RFC3339), len(s.Samples), from)
 		for _, e := range s.Samples {
 			if e.Gap != nil {
 				fmt.Fprintf(bw, "  -- no samples for %s --\n", time.Duration(e.Gap.Seconds*1e9).Round(time.Millisecond))

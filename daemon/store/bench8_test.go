@@ -51,6 +51,8 @@ func BenchmarkNight8Ingest(b *testing.B) {
 		}
 	}
 	b.ReportMetric(float64(chunks)/night8Total, "chunk-B/sample")
+	b.ReportMetric(float64(rollupBytes(b, db, TierMinute))/night8Total, "minute-B/sample")
+	b.ReportMetric(float64(rollupBytes(b, db, TierHour))/night8Total, "hour-B/sample")
 	b.ReportMetric(float64(xor)/night8Total, "xor-chunk-B/sample")
 	b.ReportMetric(float64(db.fileSize())/night8Total, "file-B/sample")
 	dst := filepath.Join(b.TempDir(), "compact.db")
@@ -58,6 +60,25 @@ func BenchmarkNight8Ingest(b *testing.B) {
 		b.Fatal(err)
 	}
 	b.ReportMetric(float64(usedBytes(b, dst))/night8Total, "compacted-B/sample")
+}
+
+// rollupBytes returns the bytes of the keys and records of every series'
+// roll-ups of tier t.
+func rollupBytes(tb testing.TB, db *DB, t Tier) int {
+	n := 0
+	err := db.bolt.View(func(tx *bolt.Tx) error {
+		top := tx.Bucket(tierBucket(t))
+		if top == nil {
+			return nil
+		}
+		return top.ForEachBucket(func(name []byte) error {
+			return top.Bucket(name).ForEach(func(k, v []byte) error { n += len(k) + len(v); return nil })
+		})
+	})
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return n
 }
 
 // usedBytes returns the bytes of a bbolt file's pages in use.
@@ -230,6 +251,37 @@ func BenchmarkQuery8h(b *testing.B) {
 		}
 		b.ReportMetric(float64(b.Elapsed().Microseconds())/1000/float64(b.N), "query-ms")
 	})
+}
+
+// BenchmarkReduce8h reduces the night of one channel (10 Hz, 288 000
+// points) to 1000 points, warm: from the minute roll-ups, as Reduce now
+// chooses, and from the raw points, as it did before roll-ups.
+func BenchmarkReduce8h(b *testing.B) {
+	pts := night8()["chamber"]
+	db := openTemp(b, Options{})
+	for i := 0; i < len(pts); i += night8Flush {
+		appendAll(db, "chamber", pts[i:min(i+night8Flush, len(pts))])
+		if err := db.Flush(); err != nil {
+			b.Fatal(err)
+		}
+	}
+	from, to := night8Start, night8Start.Add(8*time.Hour)
+	for _, c := range []struct {
+		name string
+		run  func() (Reduction, error)
+	}{
+		{"rollups", func() (Reduction, error) { return db.ReduceTiered("chamber", from, to, 1000) }},
+		{"raw", func() (Reduction, error) { return db.reduceRaw("chamber", from, to, 1000) }},
+	} {
+		b.Run(c.name, func(b *testing.B) {
+			for b.Loop() {
+				if r, err := c.run(); err != nil || len(r.Points) > 1000 || r.Count != len(pts) {
+					b.Fatalf("%d points of %d, %v", len(r.Points), r.Count, err)
+				}
+			}
+			b.ReportMetric(float64(b.Elapsed().Microseconds())/1000/float64(b.N), "query-ms")
+		})
+	}
 }
 
 func TestXORBaselineRoundTrips(t *testing.T) {

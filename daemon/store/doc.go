@@ -5,9 +5,13 @@
 //
 // # Layout
 //
-//	meta/schema              uvarint schema version (2)
+//	meta/schema              uvarint schema version (3)
 //	series/<name>/<key>      one chunk; key = 8-byte big-endian start time in
 //	                         ns since 1970 with the sign bit flipped
+//	rollups-1m/<name>/<key>  one minute's roll-up record; key = its start, as above
+//	rollups-1h/<name>/<key>  one hour's
+//	horizons/<name>/<tier>   raw, 1m, 1h: the time the tier is complete from
+//	                         (older data of it deleted by retention)
 //	damaged-chunks/<name>/.. unreadable chunks a write moved aside, byte for byte
 //
 // A chunk holds up to 1024 points spanning under one hour (102 s at 10 Hz,
@@ -69,13 +73,33 @@
 // back: up to the file's size, about 1 byte a sample. MappedResident
 // reports that part apart from the heap.
 //
-// # Roll-ups
+// # Roll-ups and retention tiers
 //
-// ComputeRollups summarises points per minute or per hour (count, valid
-// count, min, max, compensated sum, first and last valid point), and
-// MergeRollups joins consecutive ones (minutes into hours). They are
-// computed on request; storing them beside the chunks and answering
-// reduced queries from them is not wired yet.
+// Beside the chunks the file keeps, per series, one Rollup per minute and
+// one per hour (rollupstore.go, record format in rollup_codec.go): count,
+// valid and not-ok counts, min, max, compensated sum (so the mean), the
+// first and last valid points, the points holding the min and max, and
+// the first and last points that are not valid. Valid means quality 0 and
+// a finite value; other points are counted and kept as markers, never
+// averaged, so a NaN cannot poison a mean. Each Flush folds its points
+// into the records of their minutes and hours in its own transaction, late
+// points included; Rewrite rebuilds the records of the hours it touches in
+// the same transactions (the minutes from the points, each hour from its
+// minutes); Compact copies them with everything else; Open builds them for
+// files of schema 1 and 2 (migrate.go).
+//
+// Each tier has its own retention: DeleteBefore deletes whole chunks and
+// DeleteRollupsBefore whole records, both in transactions of at most 512
+// keys so a Flush waits for one of them at most, and each records the
+// tier's horizon (Horizons), the time from which the tier is complete.
+//
+// ReduceTiered (and so Reduce) reads the minute roll-ups when its buckets
+// are a minute wide or more, the hour ones from an hour, and the roll-ups
+// wherever the span starts before the raw horizon: a roll-up keeps exactly
+// the slots a reduction bucket keeps, so the answer is the one the raw
+// points would give with bucket edges on whole minutes or hours. An 8-hour
+// 10 Hz night reduced to 1000 points reads 480 records instead of 288 000
+// points (about 1.3 ms against 45 ms, BenchmarkReduce8h).
 //
 // # Order
 //

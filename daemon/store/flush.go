@@ -37,6 +37,11 @@ func (db *DB) Flush() error {
 				return fmt.Errorf("series %q: %w", g.name, err)
 			}
 			damaged, tails[g.name] = append(damaged, bad...), t
+			if db.rollups {
+				if err := addRollups(tx, g.name, g.pts); err != nil {
+					return fmt.Errorf("series %q: roll-ups: %w", g.name, err)
+				}
+			}
 		}
 		return nil
 	})

@@ -26,11 +26,22 @@ const rewriteBatch = 64
 // were passed through fn and committed; on an error, the batches before it
 // stay committed. Unreadable chunks are left as they are and reported as
 // *ChunkError after the others are done.
+//
+// The minute and hour roll-ups of the hours a batch touches are rebuilt in
+// that batch's transaction, so they always match the raw points. Points in
+// the minute at the raw retention's edge (before the raw horizon rounded
+// up to a minute), whose minute has lost points to retention, are not
+// rewritten: their roll-ups could no longer be rebuilt.
 func (db *DB) Rewrite(series string, from, to time.Time, fn func(Point) Point) (int, error) {
 	if err := db.Flush(); err != nil {
 		return 0, fmt.Errorf("rewrite %q: %w", series, err)
 	}
 	lo, hi := clampNano(from), clampNano(to)
+	if hz, err := db.Horizons(series); err != nil {
+		return 0, fmt.Errorf("rewrite %q: %w", series, err)
+	} else if !hz[TierRaw].IsZero() {
+		lo = max(lo, ceilNano(hz[TierRaw].UnixNano(), int64(time.Minute)))
+	}
 	done, resume, retries := 0, []byte(nil), 0
 	var errs []error
 	for {
@@ -128,20 +139,32 @@ func (db *DB) rewriteChunks(series string, chunks []rawChunk, lo, hi int64, fn f
 	err := db.bolt.Update(func(tx *bolt.Tx) error {
 		conflict, done = -1, 0
 		b := tx.Bucket(bucketSeries).Bucket([]byte(series))
+		lo, hi, changed := int64(1<<63-1), int64(-1<<63), false
 		for i, rc := range chunks {
 			if b == nil {
-				return nil // the series went away meanwhile
+				break // the series went away meanwhile
 			}
 			if !bytes.Equal(b.Get(chunkKey(rc.start)), rc.data) {
 				conflict = i
-				return nil
+				break
 			}
 			if updated[i] != nil {
 				if err := b.Put(chunkKey(rc.start), updated[i]); err != nil {
 					return err
 				}
+				h, _ := readHead(updated[i])
+				lo, hi, changed = min(lo, h.first), max(hi, h.last), true
 			}
 			done += counts[i]
+		}
+		if !changed || !db.rollups {
+			return nil
+		}
+		hr := int64(time.Hour)
+		for a := floorNano(lo, hr); a <= hi; a += rebuildHours * hr {
+			if _, _, err := rebuildTx(tx, series, a, min(a+rebuildHours*hr, floorNano(hi, hr)+hr)); err != nil {
+				return fmt.Errorf("roll-ups: %w", err)
+			}
 		}
 		return nil
 	})
@@ -155,31 +178,72 @@ func (db *DB) rewriteChunks(series string, chunks []rawChunk, lo, hi int64, fn f
 // than t, and returns how many points went. Chunks that straddle t stay
 // whole; buffered points are not touched (so retention still frees space
 // while a full disk keeps Flush failing). Chunks whose header cannot be read
-// are kept and reported as *ChunkError.
+// are kept and reported as *ChunkError. It works in transactions of at
+// most 512 chunks, so a Flush waits for one of them at most, and records
+// the raw horizon (Horizons) as it goes; the roll-ups stay.
 func (db *DB) DeleteBefore(series string, t time.Time) (int, error) {
+	cut := clampNano(t)
+	var errs []error
+	deleted := 0
+	var resume []byte
+	for {
+		n, next, bad, err := db.deleteChunkBatch(series, cut, resume)
+		deleted += n
+		errs = append(errs, bad...)
+		if err != nil {
+			return deleted, fmt.Errorf("delete from %q before %s: %w", series, t.Format(time.RFC3339), err)
+		}
+		if next == nil {
+			return deleted, errors.Join(errs...)
+		}
+		if betweenBatches != nil {
+			betweenBatches()
+		}
+		resume = next
+	}
+}
+
+// betweenBatches, when set (by tests), runs between two retention
+// transactions, holding no lock.
+var betweenBatches func()
+
+// deleteChunkBatch deletes up to deleteBatch chunks of series lying wholly
+// before cut, from the key resume on (the first chunk when nil). It returns
+// the points deleted, the key to go on from (nil when done) and the
+// unreadable chunks.
+func (db *DB) deleteChunkBatch(series string, cut int64, resume []byte) (int, []byte, []error, error) {
 	db.flushMu.Lock()
 	defer db.flushMu.Unlock()
 	if db.isClosed() {
-		return 0, ErrClosed
+		return 0, nil, nil, ErrClosed
 	}
-	cut := clampNano(t)
 	db.forgetTail(series)
 	var errs []error
+	var next []byte
 	deleted := 0
 	err := db.bolt.Update(func(tx *bolt.Tx) error {
-		errs, deleted = nil, 0
+		errs, next, deleted = nil, nil, 0
 		b := tx.Bucket(bucketSeries).Bucket([]byte(series))
 		if b == nil {
 			return nil
 		}
 		var keys [][]byte
+		lastGone := int64(-1 << 63)
 		c := b.Cursor()
-		for k, v := c.First(); k != nil; k, v = c.Next() {
+		k, v := c.First()
+		if resume != nil {
+			k, v = c.Seek(resume)
+		}
+		for ; k != nil; k, v = c.Next() {
 			kt, ok := keyTime(k)
 			if !ok || v == nil {
 				continue
 			}
 			if kt >= cut {
+				break
+			}
+			if len(keys) == deleteBatch {
+				next = slices.Clone(k)
 				break
 			}
 			h, err := readHead(v)
@@ -190,6 +254,7 @@ func (db *DB) DeleteBefore(series string, t time.Time) (int, error) {
 			if h.last < cut {
 				keys = append(keys, slices.Clone(k))
 				deleted += h.n
+				lastGone = max(lastGone, h.last)
 			}
 		}
 		for _, k := range keys { // collected first: deleting under a cursor may skip keys
@@ -197,12 +262,15 @@ func (db *DB) DeleteBefore(series string, t time.Time) (int, error) {
 				return err
 			}
 		}
-		return nil
+		if len(keys) == 0 {
+			return nil
+		}
+		return raiseHorizon(tx, series, TierRaw, lastGone+1)
 	})
 	if err != nil {
-		return 0, fmt.Errorf("delete from %q before %s: %w", series, t.Format(time.RFC3339), err)
+		return 0, nil, nil, err
 	}
-	return deleted, errors.Join(errs...)
+	return deleted, next, errs, nil
 }
 
 // Compact flushes, then writes a compacted copy of the whole file (every

@@ -12,14 +12,18 @@ import (
 // migrateBatch bounds the chunks one migration transaction rewrites.
 const migrateBatch = 256
 
-// migrate rewrites every version-1 chunk as version 2, series by series in
-// transactions of at most migrateBatch chunks, then records schema 2. The
-// points stay bit for bit, times to the nanosecond (the chunk's time unit
-// follows its times). A migration cut short (a crash, a full disk) leaves a
-// readable file, as both versions read, and the next Open carries on.
-// Chunks that cannot be decoded are left as they are, to be reported when
-// read.
-func (db *DB) migrate() error {
+// migrate brings a file of schema from (1 or 2) to schemaVersion. From
+// schema 1 it rewrites every version-1 chunk as version 2, series by
+// series in transactions of at most migrateBatch chunks; the points stay
+// bit for bit, times to the nanosecond (the chunk's time unit follows its
+// times). Then it builds every series' minute and hour roll-ups from its
+// points (rebuildRollups, a few hours per transaction), and records the
+// schema. A migration cut short (a crash, a full disk) leaves a readable
+// file, as both chunk versions read and roll-ups are only used once the
+// schema says they are complete, and the next Open starts the roll-ups
+// again. Chunks that cannot be decoded are left as they are, to be
+// reported when read.
+func (db *DB) migrate(from uint64) error {
 	start := time.Now()
 	var names [][]byte
 	err := db.bolt.View(func(tx *bolt.Tx) error {
@@ -31,13 +35,25 @@ func (db *DB) migrate() error {
 	if err != nil {
 		return fmt.Errorf("migrate to schema %d: %w", schemaVersion, err)
 	}
-	db.log.Info("store schema migration started", "series", len(names), "from_schema", 1, "to_schema", schemaVersion)
+	db.log.Info("store schema migration started", "series", len(names), "from_schema", from, "to_schema", schemaVersion)
 	rewritten, skipped := 0, 0
 	for _, name := range names {
+		if from >= 2 {
+			break
+		}
 		n, bad, err := db.migrateSeries(name)
 		rewritten, skipped = rewritten+n, skipped+bad
 		if err != nil {
 			return fmt.Errorf("migrate series %q to schema %d: %w", name, schemaVersion, err)
+		}
+	}
+	for _, name := range names {
+		bad, err := db.rebuildRollups(string(name), -1<<63, 1<<63-1)
+		if err != nil {
+			return fmt.Errorf("migrate series %q to schema %d: %w", name, schemaVersion, err)
+		}
+		if from >= 2 {
+			skipped += len(bad) // from schema 1 the chunk pass counted them
 		}
 	}
 	err = db.bolt.Update(func(tx *bolt.Tx) error {

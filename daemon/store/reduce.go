@@ -1,9 +1,7 @@
 package store
 
 import (
-	"errors"
 	"fmt"
-	"math"
 	"math/bits"
 	"slices"
 	"time"
@@ -24,7 +22,7 @@ const perBucket = 6
 // most points points they are all returned, unchanged. Otherwise the span
 // is cut into buckets of equal width, and each bucket contributes, in time
 // order and without repeats, its first, minimum, maximum and last ok point
-// (quality 0; NaN values take no part in the minimum and maximum) and its
+// (quality 0 and a finite value) and its
 // first and last point that is not ok, so an over-range or fault stretch
 // stays visible as markers at its ends. The buckets number 2·Buckets(points)
 // when that gives at most points points (smooth data: about two points a
@@ -42,17 +40,13 @@ const perBucket = 6
 // how a caller finds gaps in the result. Reduce reads the series through
 // Scan, so memory stays bounded by the output and one step of chunks.
 // points must be at least 2 and at most MaxReducePoints, and from before to.
+//
+// Over long spans Reduce reads roll-ups instead of the points, with bucket
+// edges on whole minutes or hours; ReduceTiered says how, and returns the
+// gap limit that goes with its result.
 func (db *DB) Reduce(series string, from, to time.Time, points int) ([]Point, error) {
-	if err := checkReduce(from, to, points); err != nil {
-		return nil, err
-	}
-	r := newReducer(clampNano(from), clampNano(to), points)
-	err := db.Scan(series, from, to, func(p Point) bool { r.add(p); return true })
-	var ce *ChunkError
-	if err != nil && !errors.As(err, &ce) {
-		return nil, err
-	}
-	return r.result(), err
+	r, err := db.ReduceTiered(series, from, to, points)
+	return r.Points, err
 }
 
 // checkReduce says what is wrong with Reduce's arguments.
@@ -111,6 +105,8 @@ type reducer struct {
 	points   int
 	raw      []Point // every point while there are at most points of them
 	n        int     // points seen
+	notOK    int     // of them, points whose quality is not 0
+	seq      int     // the next stream number for a roll-up's points (addRollup)
 	fine     []bucket
 }
 
@@ -141,7 +137,10 @@ func (r *reducer) bucketOf(ns int64) uint64 {
 	return q
 }
 
-func (r *reducer) add(p Point) {
+func (r *reducer) add(p Point) { r.addAt(p, p.At.UnixNano()) }
+
+// addAt adds p as if its time were ns (for the bucket only).
+func (r *reducer) addAt(p Point, ns int64) {
 	seq := r.n
 	r.n++
 	if r.n <= r.points+1 {
@@ -149,23 +148,24 @@ func (r *reducer) add(p Point) {
 	} else {
 		r.raw = nil
 	}
-	b := r.bucketOf(p.At.UnixNano())
+	b := r.bucketOf(ns)
 	if len(r.fine) == 0 || r.fine[len(r.fine)-1].idx != b {
 		r.fine = append(r.fine, bucket{idx: b})
 	}
 	c := &r.fine[len(r.fine)-1]
 	s := slot{true, seq, p}
 	if p.Quality != 0 {
+		r.notOK++
+	}
+	if !isValid(p) {
 		c.firstBad = earlier(c.firstBad, s)
 		c.lastBad = later(c.lastBad, s)
 		return
 	}
 	c.firstOK = earlier(c.firstOK, s)
 	c.lastOK = later(c.lastOK, s)
-	if !math.IsNaN(p.Value) {
-		c.minOK = lower(c.minOK, s)
-		c.maxOK = higher(c.maxOK, s)
-	}
+	c.minOK = lower(c.minOK, s)
+	c.maxOK = higher(c.maxOK, s)
 }
 
 // The slot combinators keep the chosen one of two candidates; a candidate

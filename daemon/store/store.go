@@ -22,10 +22,11 @@ var (
 )
 
 // schemaVersion is the layout this package writes: meta/schema, one nested
-// bucket per series under series/, chunks as described in chunk.go. Schema
-// 1 had version-1 chunks only; schema 2 files have version-2 chunks, and
-// Open rewrites a schema-1 file to schema 2 (migrate.go).
-const schemaVersion = 2
+// bucket per series under series/, chunks as described in chunk.go, and
+// the minute and hour roll-ups beside them (rollupstore.go). Schema 1 had
+// version-1 chunks only; schema 2 had version-2 chunks and no roll-ups;
+// Open brings either to schema 3 (migrate.go).
+const schemaVersion = 3
 
 // Limits of one chunk; see doc.go for how they were chosen.
 const (
@@ -60,6 +61,7 @@ type DB struct {
 	maxBuf   int
 	readOnly bool
 	res      time.Duration // see Options.Resolution
+	rollups  bool          // the file keeps roll-ups (schema 3); a read-only schema-2 file does not
 
 	flushMu sync.Mutex      // held while the disk copy changes; see Range
 	tails   map[string]tail // the open end of each series; guarded by flushMu
@@ -129,8 +131,10 @@ func Open(path string, opt Options) (*DB, error) {
 		db.maxBuf = DefaultMaxBuffered
 	}
 	schema, err := db.checkSchema()
+	db.rollups = schema >= 3
 	if err == nil && schema < schemaVersion && !db.readOnly {
-		err = db.migrate()
+		err = db.migrate(schema)
+		db.rollups = err == nil
 	}
 	if err != nil {
 		b.Close()

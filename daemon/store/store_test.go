@@ -292,7 +292,7 @@ func TestOpenRefusesFilesItCannotRead(t *testing.T) {
 		want string
 	}{
 		{foreign, Options{}, "not a holdfast store"},
-		{newer, Options{}, "schema version 9; this holdfast reads up to 2"},
+		{newer, Options{}, "schema version 9; this holdfast reads up to 3"},
 		{filepath.Join(dir, "missing.db"), Options{ReadOnly: true}, "no such file"},
 	}
 	for _, c := range cases {
