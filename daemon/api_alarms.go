@@ -163,6 +163,10 @@ func (d *Daemon) apiAlarmAction(w http.ResponseWriter, r *http.Request) {
 	case errors.Is(err, alerts.ErrNoChange), err != nil && ev.Kind == "":
 		apiError(w, http.StatusConflict, err.Error())
 		return
+	case errors.Is(err, alerts.ErrNotStored):
+		// Done, and waiting in the engine: the alarm loop notifies it once stored.
+		apiError(w, http.StatusServiceUnavailable, err.Error())
+		return
 	}
 	d.alarmEvent(d.log.With("part", "alarms"), ev)
 	if err != nil {
