@@ -60,6 +60,9 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 			d.observeHealth(log, now)
 		}
 		d.retryDeliveries()
+		if d.repeats != nil {
+			d.repeats.Flush()
+		}
 		d.holdTests(ctx, log, st, now)
 		d.runSchedules(log, scheds, now)
 		select {
