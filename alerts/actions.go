@@ -140,7 +140,8 @@ func (e *Engine) act(a Action, f func(*alarmState) (Event, error)) (Event, error
 	}
 	e.commit([]Event{ev})
 	if e.saveErr != nil {
-		return ev, fmt.Errorf("alarm %s: %s done but not stored: %w", a.Alarm, ev.Kind, e.saveErr)
+		return ev, fmt.Errorf("alarm %s: %s done but %w: it is stored and notified once the data file takes writes again: %w",
+			a.Alarm, ev.Kind, ErrNotStored, e.saveErr)
 	}
 	return ev, nil
 }

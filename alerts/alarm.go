@@ -71,7 +71,7 @@ type Event struct {
 	Unit       string    // symbol of the unit Message uses, e.g. "mbar"
 	Occurrence uint64    // which activation of the alarm (1, 2, ...); 0 before the first
 	Seq        uint64    // the alarm's transition number, never reused
-	DedupeKey  string    // "<alarm>/<seq>/<state>": the same transition always has the same key
+	DedupeKey  string    // "<instance>/<alarm>/<seq>/<state>": the same transition always has the same key, and no other has it
 	Until      time.Time // shelving expiry (ShelvedEv)
 	By         string    // who asked (ack, shelve, ...), when a person did
 }
@@ -80,8 +80,11 @@ type Event struct {
 // should be notified and kept in the history).
 func (ev Event) Transition() bool { return ev.Kind != LimitCrossed }
 
-func dedupeKey(alarm string, seq uint64, st State) string {
-	return fmt.Sprintf("%s/%d/%s", alarm, seq, st)
+func dedupeKey(instance, alarm string, seq uint64, st State) string {
+	if instance == "" {
+		return fmt.Sprintf("%s/%d/%s", alarm, seq, st)
+	}
+	return fmt.Sprintf("%s/%s/%d/%s", instance, alarm, seq, st)
 }
 
 // An AlarmStatus is one alarm's current condition, for metrics and the API.

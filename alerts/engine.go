@@ -37,7 +37,10 @@ type Engine struct {
 	store    Store
 	attached bool
 	saveErr  error
-	holdTest string // id of the hold test running, if any; see ClaimHoldTest
+	unsaved  map[string]Saved // states whose save failed, by alarm, newest
+	waiting  []Event          // transitions whose save failed, oldest first
+	instance string           // the data file's instance id; prefixes dedupe keys
+	holdTest string           // id of the hold test running, if any; see ClaimHoldTest
 	shelf    ShelfLimits
 }
 
@@ -89,12 +92,23 @@ func NewEngine(alarms []*Alarm) *Engine {
 // were stored but not marked delivered before the last stop, for the caller
 // to hand to its notifiers again (their dedupe keys are unchanged).
 // Stored alarms that are no longer configured are left in the store.
+//
+// A store that also has a method Instance() string names the data file
+// it keeps (a random id, new for every new or restored file); dedupe keys
+// of new transitions start with it, so that they never repeat across
+// files even though every file numbers its transitions from 1.
 func (e *Engine) Attach(st Store) ([]Event, error) {
 	e.mu.Lock()
 	defer e.mu.Unlock()
 	e.store, e.attached = st, true
 	if st == nil {
 		return nil, nil
+	}
+	if in, ok := st.(interface{ Instance() string }); ok {
+		e.instance = in.Instance()
+		for _, a := range e.all {
+			a.instance = e.instance
+		}
 	}
 	saved, err := st.Load()
 	if err != nil {
@@ -156,27 +170,53 @@ func (e *Engine) Tick(now time.Time) []Event {
 	return e.commit(evs)
 }
 
-// commit stores the dirty states and the transitions; the caller holds mu.
+// commit stores the dirty states and the transitions, after those whose
+// save failed before, and returns what the caller may act on: the
+// transitions that waited, oldest first, then evs. A transition is handed
+// over only once stored, so a crash cannot hand a later transition a key
+// already handed over (the stored sequence number would lag). When the
+// save fails, every transition waits for the next commit (each Tick
+// tries again) and only evs' limit crossings are returned. The caller
+// holds mu.
 func (e *Engine) commit(evs []Event) []Event {
-	var dirty []Saved
+	if e.store == nil {
+		for _, st := range e.all {
+			st.dirty = false
+		}
+		return evs
+	}
 	for _, st := range e.all {
 		if st.dirty {
-			dirty = append(dirty, st.s)
+			if e.unsaved == nil {
+				e.unsaved = map[string]Saved{}
+			}
+			e.unsaved[st.a.Name] = st.s
 			st.s.Raises = slices.Clone(st.s.Raises)
 			st.dirty = false
 		}
 	}
-	if e.store == nil || len(dirty) == 0 && len(evs) == 0 {
-		return evs
-	}
-	var trans []Event
+	trans := slices.Clone(e.waiting)
 	for _, ev := range evs {
 		if ev.Transition() {
 			trans = append(trans, ev)
 		}
 	}
-	e.saveErr = e.store.Save(dirty, trans)
-	return evs
+	if len(e.unsaved) == 0 && len(trans) == 0 {
+		return evs
+	}
+	states := make([]Saved, 0, len(e.unsaved))
+	for _, st := range e.all { // configuration order, for a stable file
+		if s, ok := e.unsaved[st.a.Name]; ok {
+			states = append(states, s)
+		}
+	}
+	if e.saveErr = e.store.Save(states, trans); e.saveErr != nil {
+		e.waiting = trans
+		return slices.DeleteFunc(slices.Clone(evs), Event.Transition)
+	}
+	out := append(e.waiting, evs...)
+	e.unsaved, e.waiting = nil, nil
+	return out
 }
 
 // Delivered marks transitions as handed to the notifiers, by dedupe key.
@@ -191,7 +231,9 @@ func (e *Engine) Delivered(keys ...string) error {
 }
 
 // StoreError returns the error of the last failed attempt to store alarm
-// state, or nil once a save succeeds again.
+// state, or nil once a save succeeds again. While it is not nil the
+// transitions since the failure wait, in memory and in order, to be
+// stored and handed over.
 func (e *Engine) StoreError() error {
 	e.mu.Lock()
 	defer e.mu.Unlock()
@@ -214,6 +256,12 @@ var ErrUnknownAlarm = errors.New("no such alarm")
 
 // ErrNoChange reports an operator action that does not apply in the alarm's state.
 var ErrNoChange = errors.New("nothing to change")
+
+// ErrNotStored means an operator action took effect but its transition
+// could not be stored yet: it waits in the engine, which stores it and
+// returns it from a later Tick (or Observe) for the caller to notify; the
+// caller must not notify the event the action returned.
+var ErrNotStored = errors.New("not stored yet")
 
 // ErrShelfLimit means a shelving request broke the shelf limits: no end
 // for a critical alarm, or an end past the longest allowed.

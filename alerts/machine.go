@@ -77,11 +77,12 @@ func (s *Saved) State() State {
 func (s *Saved) hidden() bool { return s.OutOfService || s.Suppressed || s.Shelved }
 
 type alarmState struct {
-	a     *Alarm
-	s     Saved
-	last  Condition
-	dirty bool
-	seen  bool // a known condition has been fed since the engine started
+	a        *Alarm
+	instance string // prefixes dedupe keys; see Engine.Attach
+	s        Saved
+	last     Condition
+	dirty    bool
+	seen     bool // a known condition has been fed since the engine started
 }
 
 func newAlarmState(a *Alarm) *alarmState {
@@ -95,7 +96,7 @@ func (st *alarmState) event(k EventKind, at time.Time, msg string) Event {
 	state := st.s.State()
 	return Event{Kind: k, Alarm: st.a.Name, Gauge: st.a.Gauge, Severity: st.a.Severity, At: at, Message: msg,
 		State: state, Value: st.last.Value, Limit: st.last.Limit, Unit: st.last.Unit,
-		Occurrence: st.s.Occurrence, Seq: st.s.Seq, DedupeKey: dedupeKey(st.a.Name, st.s.Seq, state)}
+		Occurrence: st.s.Occurrence, Seq: st.s.Seq, DedupeKey: dedupeKey(st.instance, st.a.Name, st.s.Seq, state)}
 }
 
 // apply feeds one condition at time at and returns the events it causes.

@@ -217,12 +217,14 @@ func (d *Daemon) suppressForHoldTest(log *slog.Logger, h *HoldTestJSON) {
 	for _, name := range d.alarms.HoldTestProvoked(h.Gauge) {
 		ev, err := d.alarms.Suppress(alerts.Action{Alarm: name, By: "hold test " + h.ID, At: d.clock.Now(),
 			Reason: "suppressed by design: hold test " + h.ID + " isolates the chamber on purpose"}, true)
-		if err != nil {
+		if err != nil && !errors.Is(err, alerts.ErrNotStored) {
 			log.Warn("alarm not suppressed for the hold test", "alarm", name, "id", h.ID, "err", err)
 			continue
 		}
 		h.Suppressed, h.StillSuppressed = append(h.Suppressed, name), append(h.StillSuppressed, name)
-		d.alarmEvent(log, ev)
+		if err == nil {
+			d.alarmEvent(log, ev) // else the alarm loop does once it is stored
+		}
 	}
 }
 
@@ -245,7 +247,7 @@ func (d *Daemon) liftHoldSuppression(log *slog.Logger, h *HoldTestJSON, now time
 			Reason: "hold test " + h.ID + " ended"}, false)
 		if err == nil {
 			d.alarmEvent(log, ev)
-		} else if !errors.Is(err, alerts.ErrNoChange) && !errors.Is(err, alerts.ErrUnknownAlarm) {
+		} else if !errors.Is(err, alerts.ErrNoChange) && !errors.Is(err, alerts.ErrNotStored) && !errors.Is(err, alerts.ErrUnknownAlarm) {
 			log.Warn("alarm suppression not lifted; retrying", "alarm", name, "id", h.ID, "err", err)
 			keep = append(keep, name)
 		}

@@ -39,6 +39,10 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 		<-ctx.Done()
 		return
 	}
+	if st.Renewed() != "" {
+		log.Info("new instance id for the data file; dedupe keys of new transitions start with it",
+			"instance", st.Instance(), "reason", st.Renewed())
+	}
 	for _, ev := range pending {
 		d.deliver(ev)
 	}
@@ -56,6 +60,9 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 			d.observeHealth(log, now)
 		}
 		d.retryDeliveries()
+		if d.repeats != nil {
+			d.repeats.Flush()
+		}
 		d.holdTests(ctx, log, st, now)
 		d.runSchedules(log, scheds, now)
 		select {

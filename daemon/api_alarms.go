@@ -1,7 +1,6 @@
 package daemon
 
 import (
-	"encoding/json"
 	"errors"
 	"math"
 	"net/http"
@@ -125,11 +124,8 @@ type AlarmActionJSON struct {
 
 func (d *Daemon) apiAlarmAction(w http.ResponseWriter, r *http.Request) {
 	var body AlarmActionJSON
-	if r.ContentLength != 0 {
-		if err := json.NewDecoder(http.MaxBytesReader(w, r.Body, 1<<16)).Decode(&body); err != nil {
-			apiError(w, http.StatusBadRequest, "body: want JSON such as {\"by\": \"night shift\", \"reason\": \"...\"}: "+err.Error())
-			return
-		}
+	if r.ContentLength != 0 && !readJSON(w, r, 1<<16, &body, `{"by": "night shift", "reason": "..."}`) {
+		return
 	}
 	now := d.clock.Now()
 	a := alerts.Action{Alarm: r.PathValue("name"), By: body.By, Reason: body.Reason, At: now}
@@ -139,9 +135,11 @@ func (d *Daemon) apiAlarmAction(w http.ResponseWriter, r *http.Request) {
 	case "ack":
 		ev, err = d.alarms.Ack(a)
 	case "shelve":
-		if a.Until, err = shelveUntil(body, now); err == nil {
-			ev, err = d.alarms.Shelve(a)
+		if a.Until, err = shelveUntil(body, now); err != nil {
+			apiError(w, http.StatusBadRequest, err.Error()) // the request is at fault, not the alarm's state
+			return
 		}
+		ev, err = d.alarms.Shelve(a)
 	case "unshelve":
 		ev, err = d.alarms.Unshelve(a)
 	case "suppress", "unsuppress":
@@ -162,6 +160,10 @@ func (d *Daemon) apiAlarmAction(w http.ResponseWriter, r *http.Request) {
 		return
 	case errors.Is(err, alerts.ErrNoChange), err != nil && ev.Kind == "":
 		apiError(w, http.StatusConflict, err.Error())
+		return
+	case errors.Is(err, alerts.ErrNotStored):
+		// Done, and waiting in the engine: the alarm loop notifies it once stored.
+		apiError(w, http.StatusServiceUnavailable, err.Error())
 		return
 	}
 	d.alarmEvent(d.log.With("part", "alarms"), ev)
@@ -203,8 +205,11 @@ func (d *Daemon) apiIsolation(w http.ResponseWriter, r *http.Request) {
 	var body struct {
 		Isolated *bool `json:"isolated"`
 	}
-	if err := json.NewDecoder(http.MaxBytesReader(w, r.Body, 1<<12)).Decode(&body); err != nil || body.Isolated == nil {
-		apiError(w, http.StatusBadRequest, "body: want {\"isolated\": true} or {\"isolated\": false}")
+	if !readJSON(w, r, 1<<12, &body, `{"isolated": true}`) {
+		return
+	}
+	if body.Isolated == nil {
+		apiError(w, http.StatusBadRequest, `request body: want {"isolated": true} or {"isolated": false}`)
 		return
 	}
 	d.alarms.SetIsolated(*body.Isolated)

@@ -1,7 +1,6 @@
 package daemon
 
 import (
-	"encoding/json"
 	"errors"
 	"fmt"
 	"net/http"
@@ -182,13 +181,7 @@ func (d *Daemon) apiReprocess(w http.ResponseWriter, r *http.Request) {
 // readBody decodes a JSON request body, refusing unknown fields; on a bad
 // body it writes the 400 reply and returns false.
 func readBody(w http.ResponseWriter, r *http.Request, v any) bool {
-	dec := json.NewDecoder(http.MaxBytesReader(w, r.Body, 1<<20))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(v); err != nil {
-		apiError(w, http.StatusBadRequest, "request body: "+err.Error())
-		return false
-	}
-	return true
+	return readJSON(w, r, 1<<20, v, "")
 }
 
 // pathID parses the {id} path segment.

@@ -1,7 +1,6 @@
 package daemon
 
 import (
-	"encoding/json"
 	"errors"
 	"net/http"
 	"time"
@@ -31,8 +30,7 @@ type HoldTestStartJSON struct {
 
 func (d *Daemon) apiHoldTestStart(w http.ResponseWriter, r *http.Request) {
 	var b HoldTestStartJSON
-	if err := json.NewDecoder(http.MaxBytesReader(w, r.Body, 1<<12)).Decode(&b); err != nil {
-		apiError(w, http.StatusBadRequest, `body: want {"gauge": "...", "settle": "2m", "duration": "10m"}: `+err.Error())
+	if !readJSON(w, r, 1<<12, &b, `{"gauge": "...", "settle": "2m", "duration": "10m"}`) {
 		return
 	}
 	settle, dur := 2*time.Minute, 10*time.Minute

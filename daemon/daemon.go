@@ -70,6 +70,7 @@ type Daemon struct {
 	retryMu     sync.Mutex
 	retry       []alerts.Event             // transitions whose queueing for notification failed
 	trace       func(dir string, b []byte) // set by OpenProbe: every message each driver sends and receives
+	repeats     *repeatHandler             // holds back repeated error lines; nil in tests that build a Daemon by hand
 
 	rw *remoteWriter // nil without remote_write
 
@@ -87,6 +88,9 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 	if d.log == nil {
 		d.log = slog.New(slog.DiscardHandler)
 	}
+	// Log volume is a wall-time matter, so the repeat limit reads the wall clock.
+	d.repeats = newRepeatHandler(d.log.Handler(), time.Now)
+	d.log = slog.New(d.repeats)
 	if d.clock == nil {
 		d.clock = wallClock{}
 	}
@@ -124,6 +128,7 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 		}
 	}
 	d.met = newMetrics(d)
+	d.met.reg.MustRegister(d.repeats.shared.suppressed)
 	if d.rw, err = newRemoteWriter(d); err != nil {
 		return nil, err
 	}

@@ -113,6 +113,10 @@ func (d *Daemon) healthz(w http.ResponseWriter, _ *http.Request) {
 		http.Error(w, "store writes failing: "+err.Error(), http.StatusServiceUnavailable)
 		return
 	}
+	if err := d.alarms.StoreError(); err != nil {
+		http.Error(w, "alarm state writes failing; transitions wait in memory and are retried: "+err.Error(), http.StatusServiceUnavailable)
+		return
+	}
 	if p := d.alarmsDown.Load(); p != nil {
 		http.Error(w, "alarms not evaluated: their stored state did not load: "+(*p).Error(), http.StatusServiceUnavailable)
 		return

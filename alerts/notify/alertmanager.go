@@ -126,8 +126,11 @@ func (a *Alertmanager) Post(ctx context.Context, alerts []AMAlert) error {
 	if err != nil {
 		return fmt.Errorf("alertmanager body: %w", err)
 	}
-	url := strings.TrimSuffix(a.URL, "/") + "/api/v2/alerts"
-	req, err := http.NewRequestWithContext(ctx, http.MethodPost, url, bytes.NewReader(body))
+	target, err := requestURL(a.URL, "api", "v2", "alerts")
+	if err != nil {
+		return fmt.Errorf("alertmanager: %w", err)
+	}
+	req, err := http.NewRequestWithContext(ctx, http.MethodPost, target, bytes.NewReader(body))
 	if err != nil {
 		return fmt.Errorf("alertmanager: %w", err)
 	}

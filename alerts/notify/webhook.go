@@ -4,9 +4,11 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"net/http"
+	"net/url"
 	"time"
 )
 
@@ -45,7 +47,11 @@ func (w *Webhook) Send(ctx context.Context, batch []Transition) error {
 	if err != nil {
 		return fmt.Errorf("webhook body: %w", err)
 	}
-	req, err := http.NewRequestWithContext(ctx, http.MethodPost, w.URL, bytes.NewReader(body))
+	target, err := requestURL(w.URL)
+	if err != nil {
+		return fmt.Errorf("webhook: %w", err)
+	}
+	req, err := http.NewRequestWithContext(ctx, http.MethodPost, target, bytes.NewReader(body))
 	if err != nil {
 		return fmt.Errorf("webhook: %w", err)
 	}
@@ -65,20 +71,24 @@ func do(c *http.Client, req *http.Request) error {
 	}
 	resp, err := c.Do(req)
 	if err != nil {
+		var ue *url.Error
+		if errors.As(err, &ue) {
+			ue.URL = redact(req.URL) // net/http hides only the password
+		}
 		return err
 	}
 	defer resp.Body.Close()
 	snippet, _ := io.ReadAll(io.LimitReader(resp.Body, 256))
 	io.Copy(io.Discard, io.LimitReader(resp.Body, 64<<10)) // let the connection be reused
 	if resp.StatusCode/100 != 2 {
-		return &StatusError{URL: req.URL.Redacted(), Code: resp.StatusCode, Body: string(bytes.TrimSpace(snippet))}
+		return &StatusError{URL: redact(req.URL), Code: resp.StatusCode, Body: string(bytes.TrimSpace(snippet))}
 	}
 	return nil
 }
 
 // A StatusError is a receiver's refusal: a reply that is not 2xx.
 type StatusError struct {
-	URL  string
+	URL  string // redacted (RedactURL)
 	Code int
 	Body string // the reply's first bytes
 }

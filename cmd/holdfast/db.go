@@ -235,6 +235,9 @@ func cmdDBBackup(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	if err == nil {
 		err = sameStore(file)
 	}
+	if err == nil {
+		err = daemon.MarkBackup(file) // a restored copy gets a new instance id, so no dedupe key repeats
+	}
 	if err != nil {
 		os.Remove(file)
 		return fmt.Errorf("db backup: %w", err)

@@ -117,10 +117,18 @@ func TestKilledWithAlarmActive(t *testing.T) {
 			sent := filepath.Join(dir, "sent")
 			e, db, pending := openEngine(t, filepath.Join(dir, "holdfast.db"))
 			defer db.Close()
+			st, err := Open(db) // the same file after a kill: the same instance id
+			if err != nil {
+				t.Fatal(err)
+			}
+			in := st.Instance() + "/"
+			if st.Renewed() != "" {
+				t.Errorf("instance id renewed after a kill (%s); want it kept", st.Renewed())
+			}
 			if deliver == "yes" && len(pending) != 0 {
 				t.Errorf("after a recorded delivery, %d events are handed over again", len(pending))
 			}
-			if deliver == "no" && (len(pending) != 1 || pending[0].DedupeKey != "rough-lost/1/unacknowledged") {
+			if deliver == "no" && (len(pending) != 1 || pending[0].DedupeKey != in+"rough-lost/1/unacknowledged") {
 				t.Errorf("undelivered after the kill: %v; want the raise again under its own key", pending)
 			}
 			for _, ev := range pending {
@@ -142,7 +150,7 @@ func TestKilledWithAlarmActive(t *testing.T) {
 			}
 			keys := strings.Fields(string(b))
 			uniq := slices.Compact(slices.Sorted(slices.Values(keys)))
-			want := []string{"rough-lost/1/unacknowledged", "rough-lost/2/returned-unacknowledged"}
+			want := []string{in + "rough-lost/1/unacknowledged", in + "rough-lost/2/returned-unacknowledged"}
 			if !slices.Equal(uniq, want) {
 				t.Errorf("keys sent %v, want exactly %v", uniq, want)
 			}

@@ -23,23 +23,29 @@ var (
 
 // A Store is the bbolt-backed alerts.Store. It does not own the *bolt.DB.
 type Store struct {
-	db *bolt.DB
+	db       *bolt.DB
+	instance string // see instance.go; "" from Wrap
+	renewed  string
 }
 
-// Open makes the buckets (when missing) in db and returns the store.
+// Open makes the buckets (when missing) in db, reads the file's instance
+// id (making a new one for a new or restored file) and returns the store.
 func Open(db *bolt.DB) (*Store, error) {
+	s := &Store{db: db}
 	err := db.Update(func(tx *bolt.Tx) error {
 		for _, b := range [][]byte{bucketState, bucketHistory, bucketUndelivered, bucketHoldTests} {
 			if _, err := tx.CreateBucketIfNotExists(b); err != nil {
 				return err
 			}
 		}
-		return nil
+		var err error
+		s.instance, s.renewed, err = openInstance(tx)
+		return err
 	})
 	if err != nil {
 		return nil, fmt.Errorf("alarm store: %w", err)
 	}
-	return &Store{db: db}, nil
+	return s, nil
 }
 
 func encode(v any) ([]byte, error) {
