@@ -90,8 +90,8 @@ func memStatus(t *testing.T) (rss, anon, file int64) {
 type soakPoint struct {
 	at         time.Duration // since the start
 	goroutines int
-	rss        int64 // VmRSS
-	anon, file int64 // its parts: RssAnon, RssFile
+	rss        int64  // VmRSS
+	anon, file int64  // its parts: RssAnon, RssFile
 	heap       uint64 // the Go heap in use
 	polls      uint64
 }
