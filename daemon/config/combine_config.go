@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"cmp"
@@ -73,7 +73,7 @@ func (v *checker) combined(name string, g *GaugeConfig) {
 		case slices.Index(g.Combine, m) != i:
 			v.problem(mp, "%q is listed twice", m)
 		}
-		iv, to = max(iv, or(mc.Interval.D(), defaultInterval)), max(to, or(mc.Timeout.D(), min(or(mc.Interval.D(), defaultInterval), 2*time.Second)))
+		iv, to = max(iv, or(mc.Interval.D(), DefaultInterval)), max(to, or(mc.Timeout.D(), min(or(mc.Interval.D(), DefaultInterval), 2*time.Second)))
 		s, ok := g.Ranges[m]
 		if !ok {
 			v.problem(path+".ranges", "no range for %q; give each member the pressures it is trusted over, e.g. ranges: {%s: [0.5 Pa, 5 kPa]}", m, m)

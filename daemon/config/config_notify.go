@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"bytes"
@@ -50,7 +50,7 @@ type WebhookConfig struct {
 	SecretFile       string `yaml:"secret_file"`       // the shared HMAC key, read at start; this or secret_credential is required
 	SecretCredential string `yaml:"secret_credential"` // or: the name of a systemd credential holding it (LoadCredential=)
 
-	secret []byte
+	Secret []byte `yaml:"-"` // the key read by the checker
 }
 
 // AlertmanagerConfig pushes alerts to an Alertmanager.
@@ -70,7 +70,7 @@ type MailConfig struct {
 	PasswordCred  string   `yaml:"password_credential"` // or: the name of a systemd credential holding it
 	PlainLoopback bool     `yaml:"plain_loopback"`      // no TLS; only for a relay on 127.0.0.1 or ::1
 
-	password string
+	Password string `yaml:"-"` // read by the checker
 }
 
 // ExecConfig runs a local command per alarm transition.
@@ -132,7 +132,7 @@ func (v *checker) notifier(path string, n *NotifyConfig, i int) {
 	case n.Webhook != nil:
 		v.httpURL(path+".webhook.url", n.Webhook.URL)
 		w := n.Webhook
-		w.secret = v.secret(secretRef{path: path + ".webhook", fileKey: "secret_file", credKey: "secret_credential",
+		w.Secret = v.secret(secretRef{path: path + ".webhook", fileKey: "secret_file", credKey: "secret_credential",
 			file: w.SecretFile, credential: w.SecretCredential, required: true})
 	case n.Alertmanager != nil:
 		v.httpURL(path+".alertmanager.url", n.Alertmanager.URL)
@@ -195,7 +195,7 @@ func (v *checker) mail(path string, m *MailConfig) {
 	hasPassword := m.PasswordFile != "" || m.PasswordCred != ""
 	v.expect((m.Username == "") == !hasPassword, path, "give username and password_file (or password_credential) together, or neither")
 	if hasPassword {
-		m.password = string(v.secret(secretRef{path: path, fileKey: "password_file", credKey: "password_credential",
+		m.Password = string(v.secret(secretRef{path: path, fileKey: "password_file", credKey: "password_credential",
 			file: m.PasswordFile, credential: m.PasswordCred, required: true}))
 	}
 }

@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"net/url"
@@ -25,7 +25,7 @@ type ReportConfig struct {
 	Unit   string   `yaml:"unit"`   // pressure unit of the report; default the one most pressure gauges show
 	Keep   int      `yaml:"keep"`   // keep the newest this many reports; 0 keeps all
 
-	atOffset time.Duration // At as time since midnight; -1 when not set
+	AtOffset time.Duration `yaml:"-"` // At as time since midnight; -1 when not set
 }
 
 // minReportEvery bounds the schedule: a report is a picture of hours, and
@@ -33,7 +33,7 @@ type ReportConfig struct {
 const minReportEvery = time.Minute
 
 // reportDir is where reports are written and served from.
-func (c *Config) reportDir() string {
+func (c *Config) ReportDir() string {
 	if c.Report != nil && c.Report.Dir != "" {
 		return c.Report.Dir
 	}
@@ -41,19 +41,19 @@ func (c *Config) reportDir() string {
 }
 
 // scheduled reports whether the daemon writes reports on its own.
-func (r *ReportConfig) scheduled() bool { return r != nil && r.Every > 0 }
+func (r *ReportConfig) Scheduled() bool { return r != nil && r.Every > 0 }
 
 // report checks the report: section and fills its defaults.
 func (v *checker) report(r *ReportConfig) {
 	if r == nil {
 		return
 	}
-	r.atOffset = -1
+	r.AtOffset = -1
 	if r.At != "" {
 		if t, err := time.Parse("15:04", r.At); err != nil {
 			v.problem("report.at", `want a time of day as HH:MM (24-hour), such as "07:00", got %q`, r.At)
 		} else {
-			r.atOffset = time.Duration(t.Hour())*time.Hour + time.Duration(t.Minute())*time.Minute
+			r.AtOffset = time.Duration(t.Hour())*time.Hour + time.Duration(t.Minute())*time.Minute
 		}
 		if r.Every == 0 {
 			r.Every = Duration(24 * time.Hour)
@@ -73,13 +73,13 @@ func (v *checker) report(r *ReportConfig) {
 		}
 	}
 	v.expect(r.Keep >= 0, "report.keep", "want a count of reports to keep (0 keeps all), got %d", r.Keep)
-	v.expect(!r.Notify || r.scheduled(), "report.notify", "notify applies to scheduled reports; set every or at as well")
+	v.expect(!r.Notify || r.Scheduled(), "report.notify", "notify applies to scheduled reports; set every or at as well")
 	v.expect(!r.Notify || len(v.cfg.Notify) > 0, "report.notify", "no notifiers are configured under notify: to send the link to")
 }
 
 // reportURL is the link base for notifications: report.url, else the
 // address the daemon listens on.
-func (c *Config) reportURL(listen string) string {
+func (c *Config) ReportURL(listen string) string {
 	if c.Report != nil && c.Report.URL != "" {
 		return strings.TrimRight(c.Report.URL, "/")
 	}

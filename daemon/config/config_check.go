@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"cmp"
@@ -137,14 +137,14 @@ func (v *checker) link(name string, l *LinkConfig) {
 	case l.Simulator != nil:
 		v.sim(path+".simulator", l.Simulator)
 	case l.Serial != nil:
-		v.driverErrs(path+".serial", l.Serial.driver(name).Validate())
+		v.driverErrs(path+".serial", l.Serial.Driver(name).Validate())
 	case l.TCP != nil:
-		v.driverErrs(path+".tcp", l.TCP.driver(name).Validate())
+		v.driverErrs(path+".tcp", l.TCP.Driver(name).Validate())
 	case l.ModbusRTU != nil:
-		sc := l.ModbusRTU.driver(name)
+		sc := l.ModbusRTU.Driver(name)
 		v.driverErrs(path+".modbus_rtu", drivers.ModbusConfig{Name: name, RTU: &sc}.Validate())
 	case l.ModbusTCP != nil:
-		tc := l.ModbusTCP.driver(name)
+		tc := l.ModbusTCP.Driver(name)
 		v.driverErrs(path+".modbus_tcp", drivers.ModbusConfig{Name: name, TCP: &tc}.Validate())
 	}
 }
@@ -245,7 +245,7 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 		v.gaugeOnLink(path, g, l)
 	}
 	if g.Interval == 0 {
-		g.Interval = Duration(defaultInterval)
+		g.Interval = Duration(DefaultInterval)
 	}
 	v.expect(g.Interval.D() >= minInterval, path+".interval", "must be at least %s, got %s", shortDuration(minInterval), shortDuration(g.Interval.D()))
 	if g.Timeout == 0 {
@@ -254,14 +254,14 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 	v.expect(slices.Contains(gaugeKinds, g.Kind), path+".kind", "want pressure, temperature or state (a digital input such as a valve-closed switch), got %q", g.Kind)
 	v.expect(g.Kind != "state" || g.Unit == "" && g.Transfer == nil && g.RawUnit == "", path+".kind",
 		"a state gauge reads 0 or 1 (invert: true on a Modbus input flips it); it takes no unit, raw_unit or transfer")
-	dim := gaugeDim(g.Kind)
+	dim := GaugeDim(g.Kind)
 	if g.Unit == "" {
 		g.Unit = map[calib.Dimension]string{calib.Pressure: "Pa", calib.Temperature: "C"}[dim]
 	} else if _, err := calib.ParseUnit(g.Unit, dim); err != nil && dim != 0 {
 		v.problem(path+".unit", "%v", err)
 	}
 	if g.Transfer != nil || g.RawUnit != "" {
-		_, err := gaugeTransfer(g)
+		_, err := GaugeTransfer(g)
 		v.driverErrs(path+map[bool]string{true: ".transfer", false: ""}[g.Transfer != nil], err)
 	}
 	if g.Driver == "sim" {
@@ -277,7 +277,7 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 	v.probe(path, g)
 }
 
-func gaugeDim(kind string) calib.Dimension {
+func GaugeDim(kind string) calib.Dimension {
 	switch kind {
 	case "pressure":
 		return calib.Pressure
@@ -299,7 +299,7 @@ func (v *checker) gaugeOnLink(path string, g *GaugeConfig, l *LinkConfig) {
 		v.expect(l.Simulator != nil, path+".link", "driver sim needs a simulator link")
 		return
 	case "modbus":
-		v.expect(l.isModbus(), path+".link", "driver modbus needs a modbus_rtu or modbus_tcp link")
+		v.expect(l.IsModbus(), path+".link", "driver modbus needs a modbus_rtu or modbus_tcp link")
 	case "ascii", "scpi":
 		v.expect(l.Serial != nil || l.TCP != nil, path+".link", "driver %s needs a serial or tcp link", g.Driver)
 	default:
@@ -310,7 +310,7 @@ func (v *checker) gaugeOnLink(path string, g *GaugeConfig, l *LinkConfig) {
 		return
 	}
 	name := strings.TrimPrefix(path, "gauges.")
-	if _, err := driverOptions(name, g); err != nil {
+	if _, err := DriverOptions(name, g); err != nil {
 		v.driverErrs(path, err)
 	}
 }

@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"fmt"
@@ -88,12 +88,12 @@ type TransferConfig struct {
 	AboveWindow string    `yaml:"above_window"` // default over-range
 }
 
-func (c *SerialLinkConfig) driver(name string) drivers.SerialConfig {
+func (c *SerialLinkConfig) Driver(name string) drivers.SerialConfig {
 	return drivers.SerialConfig{Name: name, Device: c.Device, Baud: c.Baud, DataBits: c.DataBits, Parity: c.Parity,
 		StopBits: c.StopBits, RS485: c.RS485, Timeout: c.Timeout.D(), Backoff: c.Reconnect.backoff()}
 }
 
-func (c *TCPLinkConfig) driver(name string) drivers.TCPConfig {
+func (c *TCPLinkConfig) Driver(name string) drivers.TCPConfig {
 	return drivers.TCPConfig{Name: name, Address: c.Address, Timeout: c.Timeout.D(), Backoff: c.Reconnect.backoff()}
 }
 
@@ -119,10 +119,10 @@ func linkKinds(l *LinkConfig) []string {
 	return k
 }
 
-func (l *LinkConfig) isModbus() bool { return l.ModbusRTU != nil || l.ModbusTCP != nil }
+func (l *LinkConfig) IsModbus() bool { return l.ModbusRTU != nil || l.ModbusTCP != nil }
 
 // driverOptions maps a gauge's protocol keys to the drivers' options.
-func driverOptions(name string, g *GaugeConfig) (drivers.Options, error) {
+func DriverOptions(name string, g *GaugeConfig) (drivers.Options, error) {
 	o := drivers.Options{Gauge: name}
 	var errs []string
 	switch g.Driver {
@@ -190,10 +190,10 @@ func (e fieldErrors) Error() string { return strings.Join(e, "\n") }
 
 // transfer builds the gauge's mapping from raw to SI: an analogue transfer
 // function, a unit conversion (raw_unit), or the identity.
-func gaugeTransfer(g *GaugeConfig) (calib.Transfer, error) {
-	dim := gaugeDim(g.Kind)
+func GaugeTransfer(g *GaugeConfig) (calib.Transfer, error) {
+	dim := GaugeDim(g.Kind)
 	if g.Probe != nil {
-		return probeTransfer(g.Probe)
+		return ProbeTransfer(g.Probe)
 	}
 	if g.Transfer != nil {
 		return analogue(g.Transfer)

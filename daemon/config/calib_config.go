@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"errors"
@@ -92,7 +92,7 @@ func (c *GaugeCalibration) UnmarshalYAML(n *yaml.Node) error {
 }
 
 // calibrationOn reports whether stored calibrations apply to the gauge.
-func calibrationOn(gc *GaugeConfig) bool {
+func CalibrationOn(gc *GaugeConfig) bool {
 	return gc.Calibration == nil || gc.Calibration.Use != "none"
 }
 
@@ -112,14 +112,14 @@ func (v *checker) calibration(name string, g *GaugeConfig) {
 	v.expect(len(g.Ranges) == 0, "gauges."+name+".ranges", "ranges belong to a combined gauge (one with combine:); remove them here")
 	v.expect(g.Kind == "pressure" || g.Kind == "", path, "only pressure gauges are calibrated against a reference; remove calibration from this %s gauge", g.Kind)
 	if c.Fluid != nil {
-		if _, _, err := c.Fluid.column(0.01); err != nil {
+		if _, _, err := c.Fluid.Column(0.01); err != nil {
 			v.problem(path+".reference_fluid", "%v", err)
 		}
 	}
 }
 
 // merged returns f with every field set in over replacing f's.
-func (f ReferenceFluid) merged(over *ReferenceFluid) ReferenceFluid {
+func (f ReferenceFluid) Merged(over *ReferenceFluid) ReferenceFluid {
 	if over == nil {
 		return f
 	}
@@ -146,7 +146,7 @@ func (f ReferenceFluid) merged(over *ReferenceFluid) ReferenceFluid {
 
 // column builds the closed-top column of height h (m) in this liquid and
 // describes it for the point's record.
-func (f ReferenceFluid) column(h float64) (calib.Column, string, error) {
+func (f ReferenceFluid) Column(h float64) (calib.Column, string, error) {
 	col := calib.Column{Height: h, Expansion: f.Expansion, DensityAt: 20, Gravity: f.Gravity}
 	if f.DensityAt != nil {
 		col.DensityAt = float64(*f.DensityAt)

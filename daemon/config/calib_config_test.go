@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"math"
@@ -10,7 +10,7 @@ import (
 // The shipped example parses, and its reference liquid gives a column
 // pressure by p = ρ(t)·g·h.
 func TestCalibrationExampleConfig(t *testing.T) {
-	cfg, err := LoadConfig(filepath.Join("..", "deploy", "examples", "calibration.yaml"))
+	cfg, err := LoadConfig(filepath.Join("..", "..", "deploy", "examples", "calibration.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -18,13 +18,13 @@ func TestCalibrationExampleConfig(t *testing.T) {
 	if fore.Calibration == nil || fore.Calibration.Use != "active" || fore.Calibration.Fluid == nil {
 		t.Fatalf("foreline calibration = %+v; want active with a reference fluid", fore.Calibration)
 	}
-	if !calibrationOn(fore) || calibrationOn(cfg.Gauges["chamber-ion"]) {
+	if !CalibrationOn(fore) || CalibrationOn(cfg.Gauges["chamber-ion"]) {
 		t.Error("calibration: active/none not read as written")
 	}
 	// 870 kg/m3 oil at its quoting temperature under standard gravity:
 	// 85.318 Pa per cm (REFERENCES.md §2b).
 	f := ReferenceFluid{Density: 870}
-	col, _, err := f.column(0.01)
+	col, _, err := f.Column(0.01)
 	if err != nil {
 		t.Fatal(err)
 	}

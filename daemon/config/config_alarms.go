@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"slices"
@@ -41,7 +41,7 @@ type AlarmConfig struct {
 	Health    string           `yaml:"health"` // disk_free | store_writes | notify_refused
 	HoldTest  *HoldTestConfig  `yaml:"hold_test"`
 
-	r alarmResolved // SI values, resolved by the checker
+	Resolved AlarmResolved `yaml:"-"` // SI values, resolved by the checker
 }
 
 // ShelvingConfig bounds how long an alarm may be shelved: a shelf always
@@ -70,18 +70,20 @@ type ChatterConfig struct {
 	Window Duration `yaml:"window"`
 }
 
-type alarmResolved struct {
-	kind               string
-	above, below       float64
-	hasAbove, hasBelow bool
-	deadband           float64
-	deadbandRel        bool
-	rateAbove, rateBel float64
-	hasRateA, hasRateB bool
-	dim                calib.Dimension
+// AlarmResolved is an alarm's limits in SI units, filled in by the checker.
+type AlarmResolved struct {
+	Kind               string
+	Above, Below       float64
+	HasAbove, HasBelow bool
+	Deadband           float64
+	DeadbandRel        bool
+	RateAbove, RateBel float64
+	HasRateA, HasRateB bool
+	Dim                calib.Dimension
 }
 
-var alarmKinds = []string{"above/below", "rate", "rise_watch", "stale", "fault", "disagree", "pump_down", "health", "hold_test"}
+// AlarmKinds are the rule kinds an alarm may take, as the checker names them.
+var AlarmKinds = []string{"above/below", "rate", "rise_watch", "stale", "fault", "disagree", "pump_down", "health", "hold_test"}
 
 func (a *AlarmConfig) kinds() []string {
 	var k []string
@@ -89,7 +91,7 @@ func (a *AlarmConfig) kinds() []string {
 	for i, set := range []bool{limit, a.Rate != nil, a.RiseWatch != nil, a.Stale != 0,
 		a.Fault != 0, a.Disagree != nil, a.PumpDown != nil, a.Health != "", a.HoldTest != nil} {
 		if set {
-			k = append(k, alarmKinds[i])
+			k = append(k, AlarmKinds[i])
 		}
 	}
 	return k
@@ -122,25 +124,25 @@ func (v *checker) alarm(path string, a *AlarmConfig, seen map[string]int, i int)
 		if len(k) > 0 {
 			got = strings.Join(k, " and ")
 		}
-		v.problem(path, "want exactly one rule kind (%s), got %s", strings.Join(alarmKinds, ", "), got)
+		v.problem(path, "want exactly one rule kind (%s), got %s", strings.Join(AlarmKinds, ", "), got)
 		return
 	}
-	a.r.kind = k[0]
-	if a.r.kind == "health" {
+	a.Resolved.Kind = k[0]
+	if a.Resolved.Kind == "health" {
 		v.health(path, a)
 		return
 	}
 	g, ok := v.cfg.Gauges[a.Gauge]
 	v.expect(ok, path+".gauge", "unknown gauge %q (known: %s)", a.Gauge, knownList(sortedKeys(v.cfg.Gauges)))
-	if !ok || g == nil || gaugeDim(g.Kind) == 0 {
+	if !ok || g == nil || GaugeDim(g.Kind) == 0 {
 		return
 	}
-	a.r.dim = gaugeDim(g.Kind)
+	a.Resolved.Dim = GaugeDim(g.Kind)
 	v.alarmKind(path, a, g)
 }
 
 func (v *checker) alarmKind(path string, a *AlarmConfig, g *GaugeConfig) {
-	switch a.r.kind {
+	switch a.Resolved.Kind {
 	case "above/below":
 		v.limitAlarm(path, a)
 	case "rate":
@@ -158,17 +160,17 @@ func (v *checker) alarmKind(path string, a *AlarmConfig, g *GaugeConfig) {
 	case "hold_test":
 		v.holdTest(path, a, g)
 	}
-	if a.Deadband.Set && a.r.kind != "above/below" && a.r.kind != "rate" {
+	if a.Deadband.Set && a.Resolved.Kind != "above/below" && a.Resolved.Kind != "rate" {
 		v.problem(path+".deadband", "a deadband applies to limit and rate alarms only")
 	}
 }
 
 func (v *checker) limitAlarm(path string, a *AlarmConfig) {
-	a.r.above, a.r.hasAbove = v.limit(path+".above", a.Above, a.r.dim)
-	a.r.below, a.r.hasBelow = v.limit(path+".below", a.Below, a.r.dim)
-	v.expect(!a.r.hasAbove || !a.r.hasBelow || a.r.below < a.r.above, path,
+	a.Resolved.Above, a.Resolved.HasAbove = v.limit(path+".above", a.Above, a.Resolved.Dim)
+	a.Resolved.Below, a.Resolved.HasBelow = v.limit(path+".below", a.Below, a.Resolved.Dim)
+	v.expect(!a.Resolved.HasAbove || !a.Resolved.HasBelow || a.Resolved.Below < a.Resolved.Above, path,
 		"below must be less than above, or the alarm is always active")
-	v.deadband(path, a, a.r.dim)
+	v.deadband(path, a, a.Resolved.Dim)
 }
 
 // deadband reads "0.5 Pa" (absolute, in the gauge's dimension, or a
@@ -184,12 +186,12 @@ func (v *checker) deadband(path string, a *AlarmConfig, dim calib.Dimension) {
 			v.problem(path+".deadband", "want a percentage from 0 to 100 such as 5%%, got %q", t.Value)
 			return
 		}
-		a.r.deadband, a.r.deadbandRel = f/100, true
+		a.Resolved.Deadband, a.Resolved.DeadbandRel = f/100, true
 		return
 	}
 	db, ok := v.difference(path+".deadband", t, dim)
 	v.expect(!ok || db >= 0, path+".deadband", "must not be negative")
-	a.r.deadband = db
+	a.Resolved.Deadband = db
 }
 
 // difference parses a quantity that is a difference (a deadband, a rate's
@@ -224,7 +226,7 @@ func (v *checker) health(path string, a *AlarmConfig) {
 	switch a.Health {
 	case "disk_free":
 		if !a.Below.Set {
-			a.r.below = 0.05
+			a.Resolved.Below = 0.05
 			return
 		}
 		s, ok := strings.CutSuffix(strings.TrimSpace(a.Below.Value), "%")
@@ -232,7 +234,7 @@ func (v *checker) health(path string, a *AlarmConfig) {
 		if !ok || err != nil || !(f > 0 && f < 100) {
 			v.problem(path+".below", "want the free share of the data disk as a percentage such as 5%%, got %q", a.Below.Value)
 		}
-		a.r.below = f / 100
+		a.Resolved.Below = f / 100
 	case "store_writes", "notify_refused":
 		v.expect(!a.Below.Set && !a.Above.Set, path, "%s takes no limit", a.Health)
 	default:

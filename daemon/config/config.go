@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"time"
@@ -168,7 +168,7 @@ type GaugeConfig struct {
 // Defaults for optional settings.
 const (
 	DefaultListen     = "127.0.0.1:9781"
-	defaultInterval   = time.Second
+	DefaultInterval   = time.Second
 	minInterval       = 10 * time.Millisecond
 	defaultFlushEvery = time.Second
 )

@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"fmt"
@@ -29,16 +29,17 @@ type BakeConfig struct {
 	RateDeadband   Text        `yaml:"rate_deadband"`   // default a tenth of each rate limit
 	Severity       string      `yaml:"severity"`        // of the rate and pressure alarms; default high (over-temperature is critical)
 
-	r bakeResolved
+	Resolved BakeResolved `yaml:"-"` // SI values, resolved by the checker
 }
 
-type bakeResolved struct {
-	startRise, rampUp, coolDown, tolerance, rateDeadband float64 // °C, °C/s
-	hasDeadband                                          bool
+// BakeResolved is a bake plan's limits in °C and °C/s, filled in by the checker.
+type BakeResolved struct {
+	StartRise, RampUp, CoolDown, Tolerance, RateDeadband float64 // °C, °C/s
+	HasDeadband                                          bool
 }
 
 // bakeAlarmNames are the alarms a bake plan adds, by check.
-var bakeAlarmNames = map[string]string{
+var BakeAlarmNames = map[string]string{
 	"over-temperature": "bake-over-temperature", "heating-fast": "bake-heating-too-fast",
 	"cooling-fast": "bake-cooling-too-fast", "pressure-high": "bake-pressure-high",
 }
@@ -63,25 +64,25 @@ func (v *checker) bake(b *BakeConfig) {
 	}
 	v.expect(b.Start == "on_ramp" || b.Start == "api", "bake.start",
 		"want on_ramp (a bake starts when the temperature rises) or api (POST /api/v1/bakes starts it), got %q", b.Start)
-	b.r.startRise = v.bakeDiff("bake.start_rise", b.StartRise, 10)
-	b.r.tolerance = v.bakeDiff("bake.tolerance", b.Tolerance, 5)
-	b.r.rampUp, _ = v.rate("bake.ramp_up", b.RampUp, calib.Temperature)
-	b.r.coolDown, _ = v.rate("bake.cool_down", b.CoolDown, calib.Temperature)
-	v.expect(b.RampUp.Set && b.r.rampUp > 0, "bake.ramp_up", "want the largest heating rate your viewports, seals and feedthroughs allow, such as 2 C/min")
-	v.expect(b.CoolDown.Set && b.r.coolDown > 0, "bake.cool_down", "want the largest cooling rate allowed, such as 1 C/min")
+	b.Resolved.StartRise = v.bakeDiff("bake.start_rise", b.StartRise, 10)
+	b.Resolved.Tolerance = v.bakeDiff("bake.tolerance", b.Tolerance, 5)
+	b.Resolved.RampUp, _ = v.rate("bake.ramp_up", b.RampUp, calib.Temperature)
+	b.Resolved.CoolDown, _ = v.rate("bake.cool_down", b.CoolDown, calib.Temperature)
+	v.expect(b.RampUp.Set && b.Resolved.RampUp > 0, "bake.ramp_up", "want the largest heating rate your viewports, seals and feedthroughs allow, such as 2 C/min")
+	v.expect(b.CoolDown.Set && b.Resolved.CoolDown > 0, "bake.cool_down", "want the largest cooling rate allowed, such as 1 C/min")
 	if b.RateDeadband.Set {
-		b.r.rateDeadband, b.r.hasDeadband = v.rate("bake.rate_deadband", b.RateDeadband, calib.Temperature)
-		v.expect(b.r.rateDeadband >= 0, "bake.rate_deadband", "must not be negative")
+		b.Resolved.RateDeadband, b.Resolved.HasDeadband = v.rate("bake.rate_deadband", b.RateDeadband, calib.Temperature)
+		v.expect(b.Resolved.RateDeadband >= 0, "bake.rate_deadband", "must not be negative")
 	}
 	v.expect(b.Hold > 0, "bake.hold", "want the hold temperature, such as 150 C")
 	v.expect(b.HoldFor > 0, "bake.hold_for", "want the time at temperature the plan asks for, such as 24h")
 	if b.CoolTo == 0 {
 		b.CoolTo = 50
 	}
-	v.expect(float64(b.CoolTo) < float64(b.Hold)-b.r.tolerance, "bake.cool_to",
-		"must be below the hold temperature less its tolerance (%g C), got %g C", float64(b.Hold)-b.r.tolerance, float64(b.CoolTo))
-	v.expect(float64(b.MaxTemperature) > float64(b.Hold)+b.r.tolerance, "bake.max_temperature",
-		"want a maximum above the hold temperature plus its tolerance (%g C), such as the lowest rating of the parts baked", float64(b.Hold)+b.r.tolerance)
+	v.expect(float64(b.CoolTo) < float64(b.Hold)-b.Resolved.Tolerance, "bake.cool_to",
+		"must be below the hold temperature less its tolerance (%g C), got %g C", float64(b.Hold)-b.Resolved.Tolerance, float64(b.CoolTo))
+	v.expect(float64(b.MaxTemperature) > float64(b.Hold)+b.Resolved.Tolerance, "bake.max_temperature",
+		"want a maximum above the hold temperature plus its tolerance (%g C), such as the lowest rating of the parts baked", float64(b.Hold)+b.Resolved.Tolerance)
 	v.expect(b.MaxPressure >= 0, "bake.max_pressure", "must not be negative")
 	v.expect(b.MaxPressure == 0 || b.Pressure != "", "bake.max_pressure", "a pressure limit needs bake.pressure, the gauge it applies to")
 	if b.RateWindow == 0 {
@@ -93,7 +94,7 @@ func (v *checker) bake(b *BakeConfig) {
 	}
 	v.expect(slices.Contains(severities, b.Severity), "bake.severity", "want one of %s, got %q", strings.Join(severities, ", "), b.Severity)
 	for i, a := range v.cfg.Alarms {
-		for _, n := range bakeAlarmNames {
+		for _, n := range BakeAlarmNames {
 			v.expect(a == nil || a.Name != n, pathIdx("alarms", i)+".name", "%q is the name of an alarm the bake plan adds; rename this one", n)
 		}
 	}

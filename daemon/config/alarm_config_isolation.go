@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"strings"
@@ -64,7 +64,7 @@ type ScheduleConfig struct {
 }
 
 // schedule returns the schedule in alerts' terms (At parsed by the checker).
-func (s *ScheduleConfig) schedule() alerts.Schedule {
+func (s *ScheduleConfig) Schedule() alerts.Schedule {
 	at, ok := parseClock(s.At)
 	return alerts.Schedule{Every: s.Every.D(), At: at, HasAt: ok, Loc: time.Local}
 }
@@ -128,9 +128,9 @@ func (v *checker) holdIsolation(path string, a *AlarmConfig) {
 
 func (v *checker) valve(path string, c *ValveConfig, confirmed bool) {
 	l, ok := v.cfg.Links[c.Link]
-	v.expect(ok && l != nil && l.isModbus(), path+".link", "want a modbus_rtu or modbus_tcp link (modbus links: %s), got %q",
+	v.expect(ok && l != nil && l.IsModbus(), path+".link", "want a modbus_rtu or modbus_tcp link (modbus links: %s), got %q",
 		strings.Join(v.modbusLinks(), ", "), c.Link)
-	if ok && l != nil && l.isModbus() {
+	if ok && l != nil && l.IsModbus() {
 		v.expect(len(v.gaugesWhere(func(g *GaugeConfig) bool { return g.Link == c.Link })) > 0, path+".link",
 			"link %s carries no gauge, and the daemon opens only links that do; put the valve's confirm switch (or another gauge) on it", c.Link)
 	}
@@ -154,7 +154,7 @@ func (v *checker) valve(path string, c *ValveConfig, confirmed bool) {
 func (v *checker) modbusLinks() []string {
 	var out []string
 	for _, name := range sortedKeys(v.cfg.Links) {
-		if l := v.cfg.Links[name]; l != nil && l.isModbus() {
+		if l := v.cfg.Links[name]; l != nil && l.IsModbus() {
 			out = append(out, name)
 		}
 	}
@@ -170,7 +170,7 @@ func (v *checker) holdSchedule(path string, h *HoldTestConfig) {
 	if s.At != "" && !hasAt {
 		v.problem(path+".at", "want a local time of day such as \"03:00\", got %q", s.At)
 	}
-	if err := s.schedule().Validate(); err != nil && s.Every > 0 && (s.At == "" || hasAt) {
+	if err := s.Schedule().Validate(); err != nil && s.Every > 0 && (s.At == "" || hasAt) {
 		v.problem(path, "%v", err)
 	}
 	v.expect(s.Every > 0, path+".every", "missing; say how often, e.g. every: 24h")

@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"errors"
@@ -61,13 +61,13 @@ notify:
 		t.Fatal(err)
 	}
 	n := cfg.Notify
-	if len(n) != 4 || n[0].kind != "webhook" || string(n[0].Webhook.secret) != "k3y" || n[0].MinSeverity != "high" {
+	if len(n) != 4 || n[0].kind != "webhook" || string(n[0].Webhook.Secret) != "k3y" || n[0].MinSeverity != "high" {
 		t.Fatalf("webhook: %+v", n[0])
 	}
 	if n[1].Name != "alertmanager-1" || n[1].Alertmanager.ResendEvery.D() != time.Minute || n[1].GroupWait.D() != 10*time.Second {
 		t.Errorf("alertmanager defaults: %+v", n[1])
 	}
-	if n[2].Mail.password != "pw" || n[2].GroupWait.D() != 0 || n[2].Retry.Max.D() != 2*time.Minute {
+	if n[2].Mail.Password != "pw" || n[2].GroupWait.D() != 0 || n[2].Retry.Max.D() != 2*time.Minute {
 		t.Errorf("mail: %+v", n[2])
 	}
 	if n[3].Name != "exec-3" || n[3].Timeout.D() != 30*time.Second {
@@ -126,7 +126,7 @@ notify:
 
 // The shipped example parses with no problem once its secret files exist.
 func TestNotifyExample(t *testing.T) {
-	b, err := os.ReadFile("../deploy/examples/notify.yaml")
+	b, err := os.ReadFile("../../deploy/examples/notify.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"strconv"
@@ -9,7 +9,7 @@ import (
 // Every problem of a remote_write section is reported at once, each on
 // its own line of the file.
 func TestRemoteWriteConfigProblems(t *testing.T) {
-	text := strings.Replace(e2eConfig, "DIR", t.TempDir(), 1) + `remote_write:
+	text := strings.Replace(notifyBase, "DIR", t.TempDir(), 1) + `remote_write:
   url: ftp://central.example.internal/write
   every: 10ms
   batch: -5
@@ -21,7 +21,7 @@ func TestRemoteWriteConfigProblems(t *testing.T) {
 	if err == nil {
 		t.Fatal("ParseConfig succeeded; want problems")
 	}
-	base := strings.Count(e2eConfig, "\n") + 1 // the line of remote_write:
+	base := strings.Count(notifyBase, "\n") + 1 // the line of remote_write:
 	for _, want := range []string{
 		"rw.yaml:" + itoa(base+1) + ": remote_write.url: want the receiver's http:// or https:// write URL",
 		"rw.yaml:" + itoa(base+2) + ": remote_write.every: want at least 100ms",

@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"net/url"
@@ -23,7 +23,7 @@ type RemoteWriteConfig struct {
 	Backfill   Duration          `yaml:"backfill"`   // on the first send to this URL, also send this much stored history; default 0
 	Retry      RetryConfig       `yaml:"retry"`      // backoff after a failed send; default 1s doubling to 5 min
 
-	token string
+	Token string `yaml:"-"` // read by the checker
 }
 
 // Remote-write defaults and bounds.
@@ -96,6 +96,6 @@ func (v *checker) remoteToken(r *RemoteWriteConfig) {
 	if r.TokenFile == "" && r.Credential == "" {
 		return // the receiver needs no token
 	}
-	r.token = string(v.secret(secretRef{path: "remote_write", fileKey: "token_file", credKey: "credential",
+	r.Token = string(v.secret(secretRef{path: "remote_write", fileKey: "token_file", credKey: "credential",
 		file: r.TokenFile, credential: r.Credential, required: true}))
 }

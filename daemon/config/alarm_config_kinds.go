@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"strings"
@@ -49,11 +49,11 @@ func (v *checker) rateAlarm(path string, a *AlarmConfig) {
 		r.Window = Duration(5 * time.Minute)
 	}
 	v.expect(r.Window > 0, path+".rate.window", "want a positive window such as 5 min")
-	a.r.rateAbove, a.r.hasRateA = v.rate(path+".rate.above", r.Above, a.r.dim)
-	a.r.rateBel, a.r.hasRateB = v.rate(path+".rate.below", r.Below, a.r.dim)
+	a.Resolved.RateAbove, a.Resolved.HasRateA = v.rate(path+".rate.above", r.Above, a.Resolved.Dim)
+	a.Resolved.RateBel, a.Resolved.HasRateB = v.rate(path+".rate.below", r.Below, a.Resolved.Dim)
 	v.expect(r.Above.Set || r.Below.Set, path+".rate", "say when it fires: above or below a rate such as 2 C/min")
-	v.deadband(path, a, a.r.dim)
-	if a.r.deadbandRel {
+	v.deadband(path, a, a.Resolved.Dim)
+	if a.Resolved.DeadbandRel {
 		v.problem(path+".deadband", "a rate deadband is a rate difference such as 0.5 C/min, not a percentage")
 	}
 }
@@ -110,7 +110,7 @@ func (v *checker) disagree(path string, a *AlarmConfig, g *GaugeConfig) {
 	x, ok := v.difference(path+".disagree.by", d.By, calib.Temperature)
 	v.expect(d.By.Set, path+".disagree.by", "want a temperature difference such as 5 C")
 	v.expect(!ok || x > 0, path+".disagree.by", "must be positive")
-	a.r.deadband = x // reused: the allowed difference
+	a.Resolved.Deadband = x // reused: the allowed difference
 }
 
 func (v *checker) pumpDown(path string, a *AlarmConfig, g *GaugeConfig) {

@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"math"
@@ -49,7 +49,7 @@ func TestProbeConfigProblems(t *testing.T) {
 // 100 °C (§10); out of range is over-range, not a clamped value.
 func TestProbeTransfer(t *testing.T) {
 	cj := Temperature(25)
-	tr, err := gaugeTransfer(&GaugeConfig{Kind: "temperature", Probe: &ProbeConfig{Thermocouple: "K", Input: "V", ColdJunction: &cj}})
+	tr, err := GaugeTransfer(&GaugeConfig{Kind: "temperature", Probe: &ProbeConfig{Thermocouple: "K", Input: "V", ColdJunction: &cj}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -59,7 +59,7 @@ func TestProbeTransfer(t *testing.T) {
 	if _, err := tr.Apply(0.06); err == nil || !strings.Contains(err.Error(), "54.886 mV") {
 		t.Errorf("60 mV: %v", err)
 	}
-	tr, err = gaugeTransfer(&GaugeConfig{Kind: "temperature", Probe: &ProbeConfig{RTD: "pt100"}})
+	tr, err = GaugeTransfer(&GaugeConfig{Kind: "temperature", Probe: &ProbeConfig{RTD: "pt100"}})
 	if err != nil {
 		t.Fatal(err)
 	}

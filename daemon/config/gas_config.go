@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"errors"
@@ -87,7 +87,7 @@ func gaugeSensor(g *GaugeConfig) string {
 }
 
 // gasFactor returns the correction the gauge's gas: setting asks for.
-func gasFactor(g *GaugeConfig) (calib.GasFactor, error) {
+func GasFactor(g *GaugeConfig) (calib.GasFactor, error) {
 	c := g.Gas
 	name, err := calib.GasName(c.Name)
 	if c.Name == "" {
@@ -157,7 +157,7 @@ func (v *checker) gas(name string, g *GaugeConfig) {
 		v.problem(path, "only pressure gauges take a gas correction, not a %q gauge", g.Kind)
 		return
 	}
-	f, err := gasFactor(g)
+	f, err := GasFactor(g)
 	if err != nil {
 		v.driverErrs(path, err)
 		return
@@ -197,7 +197,7 @@ func (v *checker) transpiration(name string, g *GaugeConfig) {
 			t.MaxAge = Duration(time.Minute)
 		}
 		if src := v.cfg.Gauges[t.ChamberGauge]; src != nil && src.Kind == "temperature" {
-			need := max(src.Interval.D(), defaultInterval) + src.Timeout.D()
+			need := max(src.Interval.D(), DefaultInterval) + src.Timeout.D()
 			v.expect(t.MaxAge.D() >= need, path+".max_age",
 				"must be at least %s (%s's interval and timeout), got %s; a shorter age makes the correction come and go", need, t.ChamberGauge, t.MaxAge.D())
 		}

@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"os"
@@ -148,7 +148,7 @@ notify:
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got := string(cfg.Notify[0].Webhook.secret); got != "credential secret" {
+	if got := string(cfg.Notify[0].Webhook.Secret); got != "credential secret" {
 		t.Errorf("secret %q", got)
 	}
 	if got, want := cfg.HTTP.TokenPath(), filepath.Join(creds, "api-token"); got != want {

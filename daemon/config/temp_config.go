@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"fmt"
@@ -21,7 +21,7 @@ type ProbeConfig struct {
 }
 
 // probeTransfer builds the conversion raw → °C the probe asks for.
-func probeTransfer(p *ProbeConfig) (calib.Transfer, error) {
+func ProbeTransfer(p *ProbeConfig) (calib.Transfer, error) {
 	switch {
 	case p.Thermocouple != "" && p.RTD != "":
 		return nil, fmt.Errorf("give thermocouple: or rtd:, not both")
@@ -81,7 +81,7 @@ func (v *checker) probe(path string, g *GaugeConfig) {
 	path += ".probe"
 	v.expect(g.Kind == "temperature", path, "a probe gives a temperature; set kind: temperature (got %q)", g.Kind)
 	v.expect(g.Transfer == nil && g.RawUnit == "", path, "a probe is the gauge's conversion; remove transfer: and raw_unit:")
-	if _, err := probeTransfer(g.Probe); err != nil {
+	if _, err := ProbeTransfer(g.Probe); err != nil {
 		v.driverErrs(path, err)
 	}
 	if g.Driver == "sim" {

@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"flag"
@@ -30,12 +30,12 @@ func checkGolden(t *testing.T, path, got string) {
 func TestLoadConfigReportsEveryProblem(t *testing.T) {
 	for _, name := range []string{"several-mistakes", "not-yaml", "bad-hardware", "one-line-types"} {
 		t.Run(name, func(t *testing.T) {
-			path := filepath.Join("..", "testdata", "config", name+".yaml")
+			path := filepath.Join("..", "..", "testdata", "config", name+".yaml")
 			_, err := LoadConfig(path)
 			if err == nil {
 				t.Fatal("LoadConfig succeeded; want problems")
 			}
-			checkGolden(t, filepath.Join("..", "testdata", "config", name+".golden"), err.Error()+"\n")
+			checkGolden(t, filepath.Join("..", "..", "testdata", "config", name+".golden"), err.Error()+"\n")
 		})
 	}
 }
@@ -76,7 +76,7 @@ func TestPlantedMistakesEachNamed(t *testing.T) {
 		}},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			_, err := LoadConfig(filepath.Join("..", "testdata", "config", c.name+".yaml"))
+			_, err := LoadConfig(filepath.Join("..", "..", "testdata", "config", c.name+".yaml"))
 			if err == nil {
 				t.Fatal("want problems")
 			}
@@ -94,11 +94,11 @@ func TestPlantedMistakesEachNamed(t *testing.T) {
 }
 
 func TestExamplesAreValid(t *testing.T) {
-	files, err := filepath.Glob(filepath.Join("..", "deploy", "examples", "*.yaml"))
+	files, err := filepath.Glob(filepath.Join("..", "..", "deploy", "examples", "*.yaml"))
 	if err != nil || len(files) == 0 {
 		t.Fatalf("no example configs found: %v", err)
 	}
-	files = append(files, filepath.Join("..", "testdata", "config", "minimal.yaml"))
+	files = append(files, filepath.Join("..", "..", "testdata", "config", "minimal.yaml"))
 	for _, f := range files {
 		t.Run(filepath.Base(f), func(t *testing.T) {
 			if _, err := CheckConfig(f); err != nil {
@@ -109,13 +109,13 @@ func TestExamplesAreValid(t *testing.T) {
 }
 
 func TestConfigDefaults(t *testing.T) {
-	cfg, err := LoadConfig(filepath.Join("..", "testdata", "config", "minimal.yaml"))
+	cfg, err := LoadConfig(filepath.Join("..", "..", "testdata", "config", "minimal.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}
 	g := cfg.Gauges["p1"]
-	if got := g.Interval.D(); got != defaultInterval {
-		t.Errorf("interval = %s, want %s", got, defaultInterval)
+	if got := g.Interval.D(); got != DefaultInterval {
+		t.Errorf("interval = %s, want %s", got, DefaultInterval)
 	}
 	if g.Unit != "Pa" {
 		t.Errorf("unit = %q, want Pa", g.Unit)

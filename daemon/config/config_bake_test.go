@@ -1,4 +1,4 @@
-package daemon
+package config
 
 import (
 	"strings"
@@ -60,8 +60,8 @@ func TestBakeConfigDefaults(t *testing.T) {
 	}
 	b := cfg.Bake
 	// 2 C/min = 2/60 C/s; 60 C/h = 1/60 C/s (hand arithmetic).
-	if b.Start != "on_ramp" || b.r.startRise != 10 || b.r.tolerance != 5 || float64(b.CoolTo) != 50 ||
-		b.r.rampUp != 2.0/60 || b.r.coolDown != 1.0/60 || b.Severity != "high" {
-		t.Errorf("defaults %+v %+v", b, b.r)
+	if b.Start != "on_ramp" || b.Resolved.StartRise != 10 || b.Resolved.Tolerance != 5 || float64(b.CoolTo) != 50 ||
+		b.Resolved.RampUp != 2.0/60 || b.Resolved.CoolDown != 1.0/60 || b.Severity != "high" {
+		t.Errorf("defaults %+v %+v", b, b.Resolved)
 	}
 }
