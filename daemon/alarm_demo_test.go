@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"holdfast/alerts"
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -27,7 +28,7 @@ func demoAlarmRun(t *testing.T, upTo time.Duration, hook func(time.Time, *alerts
 	if err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := ParseConfig("demo.yaml", b)
+	cfg, err := config.ParseConfig("demo.yaml", b)
 	if err != nil {
 		t.Fatal(err)
 	}

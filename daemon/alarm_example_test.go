@@ -3,19 +3,21 @@ package daemon
 import (
 	"path/filepath"
 	"testing"
+
+	"holdfast/daemon/config"
 )
 
 // The shipped alarm example loads without a problem and shows every rule kind.
 func TestAlarmExampleHasEveryKind(t *testing.T) {
-	cfg, err := LoadConfig(filepath.Join("..", "deploy", "examples", "alarms.yaml"))
+	cfg, err := config.LoadConfig(filepath.Join("..", "deploy", "examples", "alarms.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}
 	seen := map[string]bool{}
 	for _, a := range cfg.Alarms {
-		seen[a.r.kind] = true
+		seen[a.Resolved.Kind] = true
 	}
-	for _, k := range alarmKinds {
+	for _, k := range config.AlarmKinds {
 		if !seen[k] {
 			t.Errorf("alarms.yaml shows no %s alarm", k)
 		}
@@ -28,7 +30,7 @@ func TestAlarmExampleHasEveryKind(t *testing.T) {
 
 // Alarm config mistakes are reported with their place.
 func TestAlarmConfigProblems(t *testing.T) {
-	_, err := ParseConfig("bad.yaml", []byte(`
+	_, err := config.ParseConfig("bad.yaml", []byte(`
 chamber: {name: c, volume: 30 L}
 store: {dir: /tmp/x}
 links: {bench: {simulator: {rough_pump: {speed: 5 m3/h}}}}

@@ -13,6 +13,7 @@ import (
 	"holdfast/alerts"
 	"holdfast/calib"
 	"holdfast/daemon/alarmstore"
+	"holdfast/daemon/config"
 )
 
 // Hold-test states.
@@ -63,7 +64,7 @@ type HoldTestJSON struct {
 }
 
 // holdDefaults returns the hold-test alarm configured for gauge, if any.
-func (d *Daemon) holdDefaults(gauge string) *HoldTestConfig {
+func (d *Daemon) holdDefaults(gauge string) *config.HoldTestConfig {
 	for _, a := range d.cfg.Alarms {
 		if a.HoldTest != nil && a.Gauge == gauge {
 			return a.HoldTest

@@ -9,6 +9,7 @@ import (
 
 	"holdfast/alerts"
 	"holdfast/calib"
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -27,7 +28,7 @@ func TestHoldTestDuringPumpDownClaimsNoLeak(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := ParseConfig("demo.yaml", b)
+	cfg, err := config.ParseConfig("demo.yaml", b)
 	if err != nil {
 		t.Fatal(err)
 	}

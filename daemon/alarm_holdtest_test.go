@@ -14,6 +14,7 @@ import (
 
 	"holdfast/alerts"
 	"holdfast/calib"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 	"holdfast/drivers/sim"
 )
@@ -54,7 +55,7 @@ func startHoldDaemon(t *testing.T, leak, outgas string) (*Daemon, string, func()
 		t.Fatal(err)
 	}
 	text := strings.NewReplacer("DIR", dir, "TOKEN", tok, "LEAK", leak, "OUTGAS", outgas).Replace(holdConfig)
-	cfg, err := ParseConfig("hold.yaml", []byte(text))
+	cfg, err := config.ParseConfig("hold.yaml", []byte(text))
 	if err != nil {
 		t.Fatal(err)
 	}

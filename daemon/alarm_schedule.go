@@ -5,12 +5,13 @@ import (
 	"time"
 
 	"holdfast/alerts"
+	"holdfast/daemon/config"
 )
 
 // holdSchedule is when the next scheduled hold test on a gauge is due.
 type holdSchedule struct {
 	gauge string
-	cfg   *HoldTestConfig
+	cfg   *config.HoldTestConfig
 	sched alerts.Schedule
 	next  time.Time
 }
@@ -25,7 +26,7 @@ func (d *Daemon) holdSchedules(now time.Time) []*holdSchedule {
 		if a.HoldTest == nil || a.HoldTest.Schedule == nil {
 			continue
 		}
-		s := a.HoldTest.Schedule.schedule()
+		s := a.HoldTest.Schedule.Schedule()
 		out = append(out, &holdSchedule{gauge: a.Gauge, cfg: a.HoldTest, sched: s, next: s.Next(now)})
 	}
 	return out

@@ -8,6 +8,7 @@ import (
 
 	"holdfast/calib"
 	"holdfast/daemon/alarmstore"
+	"holdfast/daemon/config"
 	"holdfast/drivers"
 )
 
@@ -39,7 +40,7 @@ func (d *Daemon) modbusLink(name string) *drivers.ModbusLink {
 
 // closeValve reads the coil (to put it back later) and writes the state
 // that closes the valve. A valve that could not be read is not moved.
-func (d *Daemon) closeValve(h *HoldTestJSON, vc *ValveConfig) error {
+func (d *Daemon) closeValve(h *HoldTestJSON, vc *config.ValveConfig) error {
 	l := d.modbusLink(vc.Link)
 	if l == nil {
 		return fmt.Errorf("valve: link %s is not open (the daemon opens only links that carry a gauge)", vc.Link)

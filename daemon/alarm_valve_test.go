@@ -16,6 +16,7 @@ import (
 	"github.com/simonvetter/modbus"
 
 	"holdfast/daemon/alarmstore"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 	"holdfast/drivers/sim"
 )
@@ -134,7 +135,7 @@ func startIsolationDaemon(t *testing.T, p *plc, valve, schedule string) (*Daemon
 		t.Fatal(err)
 	}
 	text := strings.NewReplacer("DIR", dir, "TOKEN", tok, "ADDR", addr, "SCHEDULE", schedule, "VALVE", valve).Replace(valveConfig)
-	cfg, err := ParseConfig("valve.yaml", []byte(text))
+	cfg, err := config.ParseConfig("valve.yaml", []byte(text))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"holdfast/calib"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 	"holdfast/drivers"
 )
@@ -41,7 +42,7 @@ func TestAmbientCompensationInPipeline(t *testing.T) {
 }
 
 func TestAmbientConfigChecks(t *testing.T) {
-	_, err := ParseConfig("amb.yaml", []byte(`
+	_, err := config.ParseConfig("amb.yaml", []byte(`
 chamber: {name: amb, volume: 10 L}
 store: {dir: /tmp/x}
 links: {s: {simulator: {rough_pump: {speed: 2 m3/h}}}}
@@ -100,7 +101,7 @@ func TestAmbientTransfersForReprocess(t *testing.T) {
 // An ambient age shorter than the temperature gauge's interval, or an
 // ambient on a combined gauge, is a problem, not silently ineffective.
 func TestAmbientConfigRefusesIneffective(t *testing.T) {
-	_, err := ParseConfig("amb2.yaml", []byte(`
+	_, err := config.ParseConfig("amb2.yaml", []byte(`
 chamber: {name: amb, volume: 10 L}
 store: {dir: /tmp/x}
 links: {s: {simulator: {rough_pump: {speed: 2 m3/h}}}}

@@ -3,6 +3,7 @@ package daemon
 import (
 	"context"
 	"encoding/json"
+	"holdfast/daemon/config"
 	"io"
 	"net/http"
 	"os"
@@ -41,7 +42,7 @@ func TestAPIBodiesRefuseBadInput(t *testing.T) {
 	if err := os.WriteFile(tok, []byte(token+"\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := ParseConfig("body.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(shelveConfig)))
+	cfg, err := config.ParseConfig("body.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(shelveConfig)))
 	if err != nil {
 		t.Fatal(err)
 	}

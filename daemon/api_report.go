@@ -93,7 +93,7 @@ type ReportFileJSON struct {
 }
 
 func (d *Daemon) apiReports(w http.ResponseWriter, _ *http.Request) {
-	ents, err := os.ReadDir(d.cfg.reportDir())
+	ents, err := os.ReadDir(d.cfg.ReportDir())
 	if err != nil && !errors.Is(err, fs.ErrNotExist) {
 		apiError(w, http.StatusInternalServerError, err.Error())
 		return
@@ -118,7 +118,7 @@ func (d *Daemon) apiReportFile(w http.ResponseWriter, r *http.Request) {
 		apiError(w, http.StatusNotFound, "no report "+name+" (see /api/v1/reports)")
 		return
 	}
-	root, err := os.OpenRoot(d.cfg.reportDir())
+	root, err := os.OpenRoot(d.cfg.ReportDir())
 	if err != nil {
 		apiError(w, http.StatusNotFound, "no reports written yet")
 		return
@@ -140,5 +140,5 @@ func (d *Daemon) reportLink(name string) string {
 	if d.ln != nil {
 		listen = d.Addr()
 	}
-	return d.cfg.reportURL(listen) + "/api/v1/reports/" + name
+	return d.cfg.ReportURL(listen) + "/api/v1/reports/" + name
 }

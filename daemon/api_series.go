@@ -8,6 +8,7 @@ import (
 	"strings"
 	"time"
 
+	"holdfast/daemon/config"
 	"holdfast/daemon/seriesio"
 	"holdfast/daemon/store"
 )
@@ -21,7 +22,7 @@ func (d *Daemon) seriesRoutes(mux *http.ServeMux) {
 
 // GaugeKinds maps each gauge of a config to its kind (pressure,
 // temperature, state), which decides its metric name in an export.
-func GaugeKinds(cfg *Config) map[string]string {
+func GaugeKinds(cfg *config.Config) map[string]string {
 	kinds := map[string]string{}
 	for name, g := range cfg.Gauges {
 		if g != nil {

@@ -15,6 +15,7 @@ import (
 	"testing"
 	"time"
 
+	"holdfast/daemon/config"
 	"holdfast/daemon/seriesio"
 	"holdfast/daemon/store"
 	"holdfast/drivers/sim"
@@ -70,7 +71,7 @@ func startSeriesDaemon(t *testing.T) (string, string, string) {
 	tok := filepath.Join(dir, "token")
 	os.WriteFile(tok, []byte("a-test-token-of-enough-length\n"), 0o600)
 	text := strings.Replace(strings.Replace(e2eConfig, "DIR", dir, 1), `listen: "127.0.0.1:0"`, `listen: "127.0.0.1:0", token_file: `+tok, 1)
-	cfg, err := ParseConfig("e2e.yaml", []byte(text))
+	cfg, err := config.ParseConfig("e2e.yaml", []byte(text))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -8,6 +8,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"holdfast/daemon/config"
 )
 
 const shelveConfig = `
@@ -34,7 +36,7 @@ func TestShelveThroughTheAPIAlwaysEnds(t *testing.T) {
 	if err := os.WriteFile(tok, []byte("shelf-token-0123456789\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := ParseConfig("shelf.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(shelveConfig)))
+	cfg, err := config.ParseConfig("shelf.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(shelveConfig)))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -80,7 +82,7 @@ func TestShelveThroughTheAPIAlwaysEnds(t *testing.T) {
 
 func TestShelvingConfigChecked(t *testing.T) {
 	text := strings.NewReplacer("DIR", t.TempDir(), "token_file: TOKEN", "", "{default: 2h, max: 4h}", "{default: 8h, max: 1h}").Replace(shelveConfig)
-	_, err := ParseConfig("shelf.yaml", []byte(text))
+	_, err := config.ParseConfig("shelf.yaml", []byte(text))
 	if err == nil || !strings.Contains(err.Error(), "shelf.yaml:5: shelving.max: must be at least shelving.default (8h), got 1h") {
 		t.Errorf("max below default: %v", err)
 	}

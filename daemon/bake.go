@@ -11,6 +11,7 @@ import (
 	"holdfast/alerts"
 	"holdfast/calib"
 	"holdfast/daemon/alarmstore"
+	"holdfast/daemon/config"
 	"holdfast/daemon/report"
 )
 
@@ -75,7 +76,7 @@ func (d *Daemon) bakeAlarms() []*alerts.Alarm {
 		return nil
 	}
 	plan := alerts.BakePlan{Temperatures: b.Temperatures, Pressure: b.Pressure, OnRamp: b.Start == "on_ramp",
-		StartRise: b.r.startRise, RampUp: b.r.rampUp, CoolDown: b.r.coolDown, Hold: float64(b.Hold), Tolerance: b.r.tolerance,
+		StartRise: b.Resolved.StartRise, RampUp: b.Resolved.RampUp, CoolDown: b.Resolved.CoolDown, Hold: float64(b.Hold), Tolerance: b.Resolved.Tolerance,
 		HoldFor: b.HoldFor.D(), CoolTo: float64(b.CoolTo), MaxTemperature: float64(b.MaxTemperature),
 		MaxPressure: float64(b.MaxPressure), RateWindow: b.RateWindow.D()}
 	d.bake = &baker{t: alerts.NewBake(plan), punit: d.gaugeUnit(b.Pressure)}
@@ -85,19 +86,19 @@ func (d *Daemon) bakeAlarms() []*alerts.Alarm {
 	tunit := d.gaugeUnit(b.Temperatures[0])
 	lead := b.Temperatures[0]
 	mk := func(c alerts.BakeCheck, sev string, db float64, u calib.Unit, gauge string, on time.Duration) *alerts.Alarm {
-		return &alerts.Alarm{Name: bakeAlarmNames[string(c)], Gauge: gauge, Severity: alerts.Severity(sev), OnDelay: on,
+		return &alerts.Alarm{Name: config.BakeAlarmNames[string(c)], Gauge: gauge, Severity: alerts.Severity(sev), OnDelay: on,
 			Rule: &alerts.BakeRule{Bake: d.bake.t, Check: c, Deadband: db, Unit: u}}
 	}
 	rdb := func(limit float64) float64 {
-		if b.r.hasDeadband {
-			return b.r.rateDeadband
+		if b.Resolved.HasDeadband {
+			return b.Resolved.RateDeadband
 		}
 		return limit / 10
 	}
 	out := []*alerts.Alarm{
 		mk(alerts.BakeOverTemperature, "critical", 2, tunit, lead, 0), // 2 °C back below the maximum to clear (common practice)
-		mk(alerts.BakeHeatingFast, b.Severity, rdb(b.r.rampUp), tunit, lead, 0),
-		mk(alerts.BakeCoolingFast, b.Severity, rdb(b.r.coolDown), tunit, lead, 0),
+		mk(alerts.BakeHeatingFast, b.Severity, rdb(b.Resolved.RampUp), tunit, lead, 0),
+		mk(alerts.BakeCoolingFast, b.Severity, rdb(b.Resolved.CoolDown), tunit, lead, 0),
 	}
 	if b.MaxPressure > 0 {
 		out = append(out, mk(alerts.BakePressureHigh, b.Severity, float64(b.MaxPressure)/10, d.bake.punit, b.Pressure, time.Minute))
@@ -191,7 +192,7 @@ func lastHoldTest(st *alarmstore.Store, t time.Time) *BakeHoldTestJSON {
 func (d *Daemon) bakeJSON(id string, r alerts.BakeRecord, now time.Time) BakeJSON {
 	b := d.cfg.Bake
 	j := BakeJSON{ID: id, Chamber: d.cfg.Chamber.Name, Phase: string(r.Phase), Start: r.Start, End: r.End, StartedBy: r.StartedBy,
-		HoldC: float64(b.Hold), ToleranceC: b.r.tolerance, HoldForSeconds: b.HoldFor.D().Seconds(),
+		HoldC: float64(b.Hold), ToleranceC: b.Resolved.Tolerance, HoldForSeconds: b.HoldFor.D().Seconds(),
 		StartC: num(r.StartTemp), MaxC: num(r.MaxTemp), MaxGauge: r.MaxGauge, MaxAt: r.MaxAt, AtTempSeconds: r.AtTemp.Seconds(),
 		HoldComplete: r.HoldDone, PressBeforePa: num(r.PressBefore), PressAfterPa: num(r.PressAfter), PressMaxPa: num(r.PressMax),
 		HeatingCMin: num(r.MaxHeating * 60), CoolingCMin: num(r.MaxCooling * 60), Unit: d.bake.punit.Name}

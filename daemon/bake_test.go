@@ -13,6 +13,7 @@ import (
 
 	"holdfast/alerts"
 	"holdfast/calib"
+	"holdfast/daemon/config"
 	"holdfast/daemon/report"
 	"holdfast/daemon/store"
 	"holdfast/drivers/sim"
@@ -29,12 +30,12 @@ func playBake(t *testing.T, upTo, wallLag time.Duration) ([]alerts.Event, []Bake
 	if err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := ParseConfig("demo.yaml", b)
+	cfg, err := config.ParseConfig("demo.yaml", b)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if wallLag > 0 {
-		cfg.Links["bench"].Simulator.WallLag = Duration(wallLag)
+		cfg.Links["bench"].Simulator.WallLag = config.Duration(wallLag)
 	}
 	start := time.Date(2026, 3, 1, 18, 0, 0, 0, time.UTC)
 	now := start

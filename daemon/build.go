@@ -3,9 +3,11 @@ package daemon
 import (
 	"errors"
 	"fmt"
+	"slices"
 	"time"
 
 	"holdfast/calib"
+	"holdfast/daemon/config"
 	"holdfast/drivers"
 	"holdfast/drivers/sim"
 )
@@ -62,7 +64,7 @@ func (d *Daemon) buildGauges() error {
 	return errors.Join(errs...)
 }
 
-func (d *Daemon) buildLink(name string, lc *LinkConfig) (*link, error) {
+func (d *Daemon) buildLink(name string, lc *config.LinkConfig) (*link, error) {
 	l := &link{name: name}
 	switch {
 	case lc.Simulator != nil:
@@ -72,28 +74,28 @@ func (d *Daemon) buildLink(name string, lc *LinkConfig) (*link, error) {
 		}
 		l.sim = ch
 	case lc.Serial != nil:
-		sc := lc.Serial.driver(name)
-		sc.Identify = lc.Identify.driver()
+		sc := lc.Serial.Driver(name)
+		sc.Identify = lc.Identify.Driver()
 		sl, err := drivers.OpenSerial(sc, d.log)
 		if err != nil {
 			return nil, err
 		}
 		l.stream, l.close, l.stats = sl, sl.Close, sl.Stats
 	case lc.TCP != nil:
-		tc := lc.TCP.driver(name)
-		tc.Identify = lc.Identify.driver()
+		tc := lc.TCP.Driver(name)
+		tc.Identify = lc.Identify.Driver()
 		tl, err := drivers.DialTCP(tc, d.log)
 		if err != nil {
 			return nil, err
 		}
 		l.stream, l.close, l.stats = tl, tl.Close, tl.Stats
-	case lc.isModbus():
+	case lc.IsModbus():
 		mc := drivers.ModbusConfig{Name: name}
 		if lc.ModbusRTU != nil {
-			sc := lc.ModbusRTU.driver(name)
+			sc := lc.ModbusRTU.Driver(name)
 			mc.RTU = &sc
 		} else {
-			tc := lc.ModbusTCP.driver(name)
+			tc := lc.ModbusTCP.Driver(name)
 			mc.TCP = &tc
 		}
 		ml, err := drivers.OpenModbus(mc, d.log)
@@ -107,8 +109,8 @@ func (d *Daemon) buildLink(name string, lc *LinkConfig) (*link, error) {
 	return l, nil
 }
 
-func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, error) {
-	dim := gaugeDim(gc.Kind)
+func (d *Daemon) buildGauge(name string, gc *config.GaugeConfig, l *link) (*gauge, error) {
+	dim := config.GaugeDim(gc.Kind)
 	var unit calib.Unit // a digital state has none
 	if dim != 0 {
 		var err error
@@ -129,7 +131,7 @@ func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, erro
 		g.drv = in
 		g.transfer = in.Transfer() // the instrument's own curve, as its maker ships it
 		if gc.Probe != nil {       // a thermocouple's EMF or an RTD's resistance: the config's conversion
-			if g.transfer, err = probeTransfer(gc.Probe); err != nil {
+			if g.transfer, err = config.ProbeTransfer(gc.Probe); err != nil {
 				return nil, err
 			}
 		}
@@ -137,7 +139,7 @@ func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, erro
 		if gc.From != "" {
 			break // fed by its source's exchange; see linkFeeds
 		}
-		opts, err := driverOptions(name, gc)
+		opts, err := config.DriverOptions(name, gc)
 		if err != nil {
 			return nil, err
 		}
@@ -150,7 +152,7 @@ func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, erro
 		if err != nil {
 			return nil, err
 		}
-		if g.transfer, err = gaugeTransfer(gc); err != nil {
+		if g.transfer, err = config.GaugeTransfer(gc); err != nil {
 			return nil, err
 		}
 	default:
@@ -158,7 +160,7 @@ func (d *Daemon) buildGauge(name string, gc *GaugeConfig, l *link) (*gauge, erro
 	}
 	if gc.From != "" {
 		var err error
-		if g.transfer, err = gaugeTransfer(gc); err != nil {
+		if g.transfer, err = config.GaugeTransfer(gc); err != nil {
 			return nil, err
 		}
 	}
@@ -191,7 +193,7 @@ func linkFeeds(l *link) error {
 	return nil
 }
 
-func simConfig(cfg *Config, s *SimConfig) sim.Config {
+func simConfig(cfg *config.Config, s *config.SimConfig) sim.Config {
 	c := sim.Config{
 		Volume:        float64(cfg.Chamber.Volume),
 		StartPressure: float64(s.StartPressure),
@@ -211,7 +213,7 @@ func simConfig(cfg *Config, s *SimConfig) sim.Config {
 	return c
 }
 
-func simEvent(st *SimStep) sim.Event {
+func simEvent(st *config.SimStep) sim.Event {
 	ev := sim.Event{After: st.After.D()}
 	switch {
 	case st.Bake != nil:
@@ -239,7 +241,7 @@ func simEvent(st *SimStep) sim.Event {
 // SimChamber builds the simulated chamber of the simulator link named link
 // in cfg, and its instruments (the gauges with driver sim on that link), on
 // the given clock. holdfast simulate serves them over a pseudo-terminal.
-func SimChamber(cfg *Config, link string, now func() time.Time) (*sim.Chamber, map[string]*sim.Instrument, error) {
+func SimChamber(cfg *config.Config, link string, now func() time.Time) (*sim.Chamber, map[string]*sim.Instrument, error) {
 	lc, ok := cfg.Links[link]
 	if !ok || lc.Simulator == nil {
 		return nil, nil, fmt.Errorf("no simulator link %q in %s", link, cfg.File)
@@ -263,7 +265,7 @@ func SimChamber(cfg *Config, link string, now func() time.Time) (*sim.Chamber, m
 	return ch, ins, nil
 }
 
-func simInstrument(name string, gc *GaugeConfig) sim.InstrumentConfig {
+func simInstrument(name string, gc *config.GaugeConfig) sim.InstrumentConfig {
 	return sim.InstrumentConfig{
 		Name: name, Kind: gc.Instrument, Digits: gc.Digits, FullScale: float64(gc.FullScale),
 		Where: gc.Where, Protect: float64(gc.Protect), Probe: simProbe(gc.Probe),
@@ -273,7 +275,7 @@ func simInstrument(name string, gc *GaugeConfig) sim.InstrumentConfig {
 
 // simProbe is what a simulated temperature instrument reports: "" for °C,
 // a thermocouple type letter for its EMF in mV, pt100 or pt1000 for ohms.
-func simProbe(p *ProbeConfig) string {
+func simProbe(p *config.ProbeConfig) string {
 	switch {
 	case p == nil:
 		return ""
@@ -281,4 +283,15 @@ func simProbe(p *ProbeConfig) string {
 		return p.Thermocouple
 	}
 	return p.RTD
+}
+
+// sortedKeys returns m's keys in order, so building follows the config's
+// names rather than map order.
+func sortedKeys[V any](m map[string]V) []string {
+	ks := make([]string, 0, len(m))
+	for k := range m {
+		ks = append(ks, k)
+	}
+	slices.Sort(ks)
+	return ks
 }

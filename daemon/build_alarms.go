@@ -5,6 +5,7 @@ import (
 
 	"holdfast/alerts"
 	"holdfast/calib"
+	"holdfast/daemon/config"
 )
 
 // limits turns the config's alarms into the engine's alarms. (The name is
@@ -30,17 +31,17 @@ func (d *Daemon) gaugeUnit(name string) calib.Unit {
 	if g == nil {
 		return calib.Unit{}
 	}
-	u, _ := calib.ParseUnit(g.Unit, gaugeDim(g.Kind))
+	u, _ := calib.ParseUnit(g.Unit, config.GaugeDim(g.Kind))
 	return u
 }
 
-func (d *Daemon) rule(a *AlarmConfig) alerts.Rule {
+func (d *Daemon) rule(a *config.AlarmConfig) alerts.Rule {
 	unit := d.gaugeUnit(a.Gauge)
-	r := a.r
-	switch r.kind {
+	r := a.Resolved
+	switch r.Kind {
 	case "rate":
-		return &alerts.Rate{Gauge: a.Gauge, Window: a.Rate.Window.D(), Above: ifSet(r.rateAbove, r.hasRateA),
-			Below: ifSet(r.rateBel, r.hasRateB), Deadband: r.deadband, Unit: unit}
+		return &alerts.Rate{Gauge: a.Gauge, Window: a.Rate.Window.D(), Above: ifSet(r.RateAbove, r.HasRateA),
+			Below: ifSet(r.RateBel, r.HasRateB), Deadband: r.Deadband, Unit: unit}
 	case "rise_watch":
 		rw := a.RiseWatch
 		u, _ := calib.ParseUnit(rw.Unit, calib.Throughput)
@@ -51,7 +52,7 @@ func (d *Daemon) rule(a *AlarmConfig) alerts.Rule {
 	case "fault":
 		return &alerts.Fault{Gauge: a.Gauge, After: a.Fault.D()}
 	case "disagree":
-		return &alerts.Disagree{Gauge: a.Gauge, With: a.Disagree.With, Factor: a.Disagree.Factor, Diff: r.deadband,
+		return &alerts.Disagree{Gauge: a.Gauge, With: a.Disagree.With, Factor: a.Disagree.Factor, Diff: r.Deadband,
 			MaxSkew: a.Disagree.Skew.D(), Unit: unit}
 	case "pump_down":
 		p := a.PumpDown
@@ -63,20 +64,20 @@ func (d *Daemon) rule(a *AlarmConfig) alerts.Rule {
 	case "health":
 		switch a.Health {
 		case "disk_free":
-			return &alerts.Health{Check: alerts.HealthDiskFree, Below: r.below}
+			return &alerts.Health{Check: alerts.HealthDiskFree, Below: r.Below}
 		case "notify_refused":
 			return &alerts.Health{Check: alerts.HealthNotifyRefused}
 		}
 		return &alerts.Health{Check: alerts.HealthStoreWrites}
 	}
-	l := &alerts.Limit{Gauge: a.Gauge, Above: ifSet(r.above, r.hasAbove), Below: ifSet(r.below, r.hasBelow),
-		Deadband: r.deadband, Unit: unit, WaitForNormal: a.WaitForNormal}
-	if r.deadbandRel {
+	l := &alerts.Limit{Gauge: a.Gauge, Above: ifSet(r.Above, r.HasAbove), Below: ifSet(r.Below, r.HasBelow),
+		Deadband: r.Deadband, Unit: unit, WaitForNormal: a.WaitForNormal}
+	if r.DeadbandRel {
 		ref := l.Above
 		if math.IsNaN(ref) {
 			ref = l.Below
 		}
-		l.Deadband = r.deadband * math.Abs(ref)
+		l.Deadband = r.Deadband * math.Abs(ref)
 	}
 	return l
 }

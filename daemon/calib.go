@@ -8,6 +8,7 @@ import (
 
 	"holdfast/calib"
 	"holdfast/daemon/calibstore"
+	"holdfast/daemon/config"
 )
 
 // gaugeLive is what the calibration workflow and combined gauges keep per
@@ -85,7 +86,7 @@ func (d *Daemon) loadCalibrations() error {
 		case g == nil:
 			d.log.Info("stored calibration for a gauge not in the config; kept, not applied", "gauge", name, "calibration", id)
 			continue
-		case g.virtual() || !calibrationOn(g.cfg):
+		case g.virtual() || !config.CalibrationOn(g.cfg):
 			d.log.Info("stored calibration not applied: the config says calibration: none", "gauge", name, "calibration", id)
 			continue
 		}
@@ -138,7 +139,7 @@ func (d *Daemon) activate(id uint32, note string) (calibstore.Record, uint32, er
 	if err != nil {
 		return rec, 0, err
 	}
-	if !calibrationOn(g.cfg) {
+	if !config.CalibrationOn(g.cfg) {
 		return rec, 0, refuse("gauge %s has calibration: none in the config, so an active version would not be applied; set calibration: active first", g.name)
 	}
 	g.live.mu.Lock()

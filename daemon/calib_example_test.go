@@ -8,6 +8,7 @@ import (
 	"testing"
 	"time"
 
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -19,7 +20,7 @@ import (
 // 0.013 mPa over a minute (from the hour's rate, even tens of times higher
 // just after the start, far below the 0.5 % drift limit of 25 mPa).
 func TestCalibrationExampleFirstStepWithinAMinute(t *testing.T) {
-	cfg, err := LoadConfig(filepath.Join("..", "deploy", "examples", "calibration.yaml"))
+	cfg, err := config.LoadConfig(filepath.Join("..", "deploy", "examples", "calibration.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}

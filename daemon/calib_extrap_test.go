@@ -14,6 +14,7 @@ import (
 
 	"holdfast/calib"
 	"holdfast/daemon/calibstore"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 	"holdfast/drivers/sim"
 )
@@ -119,7 +120,7 @@ func TestCalibrationEdgeKeepsGaugeReading(t *testing.T) {
 	if err := os.WriteFile(tok, []byte("edge-token-0123456789\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := ParseConfig("edge.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(edgeConfig)))
+	cfg, err := config.ParseConfig("edge.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(edgeConfig)))
 	if err != nil {
 		t.Fatal(err)
 	}

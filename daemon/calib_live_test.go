@@ -16,6 +16,7 @@ import (
 
 	"holdfast/calib"
 	"holdfast/daemon/calibstore"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 	"holdfast/drivers/sim"
 )
@@ -82,7 +83,7 @@ func startBench(t *testing.T, dir string, start time.Time, speed float64) *liveB
 		t.Fatal(err)
 	}
 	text := strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(liveConfig)
-	cfg, err := ParseConfig("live.yaml", []byte(text))
+	cfg, err := config.ParseConfig("live.yaml", []byte(text))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -8,21 +8,22 @@ import (
 
 	"holdfast/calib"
 	"holdfast/daemon/calibstore"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 )
 
 // pointRequest asks for one calibration point: the gauge's raw signal
 // averaged over the window ending At, paired with exactly one reference.
 type pointRequest struct {
-	Gauge          string          `json:"gauge"`
-	Reference      *float64        `json:"reference_pa,omitempty"`    // an absolute pressure read off the reference
-	ColumnHeight   *float64        `json:"column_height_m,omitempty"` // a closed-top column's height, in the gauge's reference liquid
-	Fluid          *ReferenceFluid `json:"fluid,omitempty"`           // overrides the config's reference_fluid for this point
-	ReferenceGauge string          `json:"reference_gauge,omitempty"` // another gauge, averaged over the same window
-	WindowSeconds  float64         `json:"window_seconds,omitempty"`  // default 60
-	MaxDrift       float64         `json:"max_drift,omitempty"`       // relative change allowed over the window; default 0.005
-	At             time.Time       `json:"at,omitzero"`               // end of the window; default now
-	Note           string          `json:"note,omitempty"`
+	Gauge          string                 `json:"gauge"`
+	Reference      *float64               `json:"reference_pa,omitempty"`    // an absolute pressure read off the reference
+	ColumnHeight   *float64               `json:"column_height_m,omitempty"` // a closed-top column's height, in the gauge's reference liquid
+	Fluid          *config.ReferenceFluid `json:"fluid,omitempty"`           // overrides the config's reference_fluid for this point
+	ReferenceGauge string                 `json:"reference_gauge,omitempty"` // another gauge, averaged over the same window
+	WindowSeconds  float64                `json:"window_seconds,omitempty"`  // default 60
+	MaxDrift       float64                `json:"max_drift,omitempty"`       // relative change allowed over the window; default 0.005
+	At             time.Time              `json:"at,omitzero"`               // end of the window; default now
+	Note           string                 `json:"note,omitempty"`
 }
 
 // window is one gauge's samples over a point's window.
@@ -159,13 +160,13 @@ func (d *Daemon) reference(g *gauge, req pointRequest, from, to time.Time, win t
 // columnReference turns a closed-top column's height into a pressure in
 // the gauge's configured reference liquid (or the request's).
 func (d *Daemon) columnReference(g *gauge, req pointRequest) (float64, string, error) {
-	var base ReferenceFluid
+	var base config.ReferenceFluid
 	if g.cfg.Calibration != nil && g.cfg.Calibration.Fluid != nil {
 		base = *g.cfg.Calibration.Fluid
 	} else if req.Fluid == nil {
 		return 0, "", fmt.Errorf("gauge %s has no reference liquid: add calibration.reference_fluid to its config (e.g. {density: 870 kg/m3, expansion: 7e-4}), or give --density", g.name)
 	}
-	col, desc, err := base.merged(req.Fluid).column(*req.ColumnHeight)
+	col, desc, err := base.Merged(req.Fluid).Column(*req.ColumnHeight)
 	if err != nil {
 		return 0, "", fmt.Errorf("reference column: %w", err)
 	}

@@ -1,9 +1,9 @@
 package daemon
 
 import (
+	"holdfast/daemon/config"
 	"os"
 	"path/filepath"
-	"regexp"
 	"strings"
 	"testing"
 )
@@ -92,7 +92,7 @@ func TestCheckAgreesWithRun(t *testing.T) {
 			if err := os.WriteFile(path, []byte(text), 0o600); err != nil {
 				t.Fatal(err)
 			}
-			_, checkErr := CheckConfig(path)
+			_, checkErr := config.CheckConfig(path)
 			runErr := runStart(path)
 			if checkErr == nil || !strings.Contains(checkErr.Error(), c.want) {
 				t.Errorf("check: got %v, want an error with %q", checkErr, c.want)
@@ -106,7 +106,7 @@ func TestCheckAgreesWithRun(t *testing.T) {
 
 // runStart does what holdfast run does before polling: load, then build.
 func runStart(path string) error {
-	cfg, err := LoadConfig(path)
+	cfg, err := config.LoadConfig(path)
 	if err != nil {
 		return err
 	}
@@ -132,33 +132,6 @@ func base(dir, store, gauge, alarms string) string {
 	return s
 }
 
-var tokenFileKey = regexp.MustCompile(`token_file: [^\s}]+`)
-
-// withToken is config file f, copied into a temporary directory with its
-// http.token_file pointed at a token made there, as the example's comments
-// tell a user to make one before holdfast check passes. A config naming no
-// token file is returned as it is.
-func withToken(t *testing.T, f string) string {
-	t.Helper()
-	b, err := os.ReadFile(f)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !tokenFileKey.Match(b) {
-		return f
-	}
-	dir := t.TempDir()
-	tok := filepath.Join(dir, "token")
-	if err := os.WriteFile(tok, []byte("0123456789abcdef0123456789abcdef\n"), 0o600); err != nil {
-		t.Fatal(err)
-	}
-	out := filepath.Join(dir, filepath.Base(f))
-	if err := os.WriteFile(out, tokenFileKey.ReplaceAll(b, []byte("token_file: "+tok)), 0o600); err != nil {
-		t.Fatal(err)
-	}
-	return out
-}
-
 // A token or secret file others may read is noted by both loaders (run
 // logs the note as a warning through SecretWarnings), not refused; a
 // duplicate key is one line naming where the key was first set.
@@ -175,12 +148,12 @@ func TestSecretReadableWarnsAndDuplicateIsOneLine(t *testing.T) {
 	if err := os.WriteFile(path, []byte(base(dir, "", "", "")+"http: {listen: 127.0.0.1:0, token_file: "+tf+"}\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	for name, load := range map[string]func(string) (*Config, error){"check": CheckConfig, "run": LoadConfig} {
+	for name, load := range map[string]func(string) (*config.Config, error){"check": config.CheckConfig, "run": config.LoadConfig} {
 		cfg, err := load(path)
 		if err != nil {
 			t.Fatalf("%s: %v", name, err)
 		}
-		w := SecretWarnings(cfg)
+		w := config.SecretWarnings(cfg)
 		if len(w) != 1 || !strings.Contains(w[0], "http.token_file") || !strings.Contains(w[0], "mode 0644") {
 			t.Errorf("%s: warnings %q, want one about http.token_file mode 0644", name, w)
 		}
@@ -190,7 +163,7 @@ func TestSecretReadableWarnsAndDuplicateIsOneLine(t *testing.T) {
 	if err := os.WriteFile(path, []byte(base(dir, "", "    interval: 2s\n", "")), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	_, err := CheckConfig(path)
+	_, err := config.CheckConfig(path)
 	want := path + `:13: gauges.p1.interval: duplicate key "interval", first set at line 12; keep one`
 	if err == nil || err.Error() != want {
 		t.Errorf("got %v\nwant %s", err, want)

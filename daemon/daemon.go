@@ -15,6 +15,7 @@ import (
 	"time"
 
 	"holdfast/alerts"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 )
 
@@ -50,7 +51,7 @@ type Options struct {
 
 // A Daemon polls every gauge of one config and serves what it reads.
 type Daemon struct {
-	cfg         *Config
+	cfg         *config.Config
 	log         *slog.Logger
 	clock       Clock
 	emit        func(Event)
@@ -83,7 +84,7 @@ func StorePath(dir string) string { return filepath.Join(dir, "holdfast.db") }
 
 // New builds a daemon: it opens the store and the links' drivers and binds
 // the HTTP listener, so that every startup problem is reported before Run.
-func New(cfg *Config, opt Options) (_ *Daemon, err error) {
+func New(cfg *config.Config, opt Options) (_ *Daemon, err error) {
 	d := &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, alarmsReady: make(chan struct{})}
 	if d.log == nil {
 		d.log = slog.New(slog.DiscardHandler)
@@ -110,7 +111,7 @@ func New(cfg *Config, opt Options) (_ *Daemon, err error) {
 	}
 	d.alarms = alerts.NewEngine(d.limits())
 	d.alarms.SetShelfLimits(alerts.ShelfLimits{Default: cfg.Shelving.Default.D(), Max: cfg.Shelving.Max.D()})
-	if d.token, err = readToken(cfg.HTTP.TokenPath()); err != nil {
+	if d.token, err = config.ReadToken(cfg.HTTP.TokenPath()); err != nil {
 		return nil, err
 	}
 	if err := os.MkdirAll(cfg.Store.Dir, 0o750); err != nil {

@@ -10,6 +10,7 @@ import (
 	"testing"
 	"time"
 
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -63,7 +64,7 @@ func scrape(t *testing.T, addr string) map[string]float64 {
 // pump-down shows as falling pressures between two scrapes.
 func TestDaemonEndToEnd(t *testing.T) {
 	dir := t.TempDir()
-	cfg, err := ParseConfig("e2e.yaml", []byte(strings.Replace(e2eConfig, "DIR", dir, 1)))
+	cfg, err := config.ParseConfig("e2e.yaml", []byte(strings.Replace(e2eConfig, "DIR", dir, 1)))
 	if err != nil {
 		t.Fatal(err)
 	}

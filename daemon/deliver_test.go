@@ -9,13 +9,14 @@ import (
 	bolt "go.etcd.io/bbolt"
 
 	"holdfast/alerts"
+	"holdfast/daemon/config"
 )
 
 // A transition whose queueing fails (the store refuses writes) waits, and
 // the next one is queued behind it, never before it: when the store works
 // again, delivering "cleared" first queues the waiting "raised".
 func TestDeliveriesWaitInOrderWhileQueueingFails(t *testing.T) {
-	cfg, err := ParseConfig("order.yaml", []byte(`
+	cfg, err := config.ParseConfig("order.yaml", []byte(`
 chamber: {name: order, volume: 10 L}
 store: {dir: /nonexistent}
 links: {s: {simulator: {rough_pump: {speed: 2 m3/h}}}}

@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"holdfast/calib"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 )
 
@@ -46,13 +47,13 @@ func (d *Daemon) wireCorrections() error {
 	return nil
 }
 
-func (d *Daemon) correctionFor(gc *GaugeConfig) (*correction, error) {
+func (d *Daemon) correctionFor(gc *config.GaugeConfig) (*correction, error) {
 	if gc.Gas == nil && gc.Transpiration == nil {
 		return nil, nil
 	}
 	c := &correction{}
 	if gc.Gas != nil {
-		f, err := gasFactor(gc)
+		f, err := config.GasFactor(gc)
 		if err != nil {
 			return nil, fmt.Errorf("gas: %w", err)
 		}

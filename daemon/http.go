@@ -8,16 +8,15 @@ import (
 	"fmt"
 	"html"
 	"io"
-	"io/fs"
 	"math"
 	"net/http"
-	"os"
 	"strings"
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus/promhttp"
 
 	"holdfast/calib"
+	"holdfast/daemon/config"
 )
 
 func (d *Daemon) handler() http.Handler {
@@ -44,7 +43,7 @@ func (d *Daemon) handler() http.Handler {
 func (d *Daemon) limitBody(h http.Handler) http.Handler {
 	limit := d.cfg.HTTP.MaxBodyBytes
 	if limit <= 0 {
-		limit = defaultMaxBodyBytes
+		limit = config.DefaultMaxBodyBytes
 	}
 	tooLarge := func(w http.ResponseWriter, size string) {
 		apiError(w, http.StatusRequestEntityTooLarge, fmt.Sprintf(
@@ -81,17 +80,17 @@ func (d *Daemon) metricsAuth(h http.Handler) http.Handler {
 	}
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
 		ok := false
-		if m.token != "" {
+		if m.Token != "" {
 			got, has := strings.CutPrefix(r.Header.Get("Authorization"), "Bearer ")
-			ok = has && subtle.ConstantTimeCompare([]byte(got), []byte(m.token)) == 1
+			ok = has && subtle.ConstantTimeCompare([]byte(got), []byte(m.Token)) == 1
 			if !ok {
 				w.Header().Set("WWW-Authenticate", `Bearer realm="holdfast metrics"`)
 			}
-		} else if m.password != "" {
+		} else if m.Password != "" {
 			u, p, has := r.BasicAuth()
 			// Both compared, always, so the time does not tell which was wrong.
 			uok := subtle.ConstantTimeCompare([]byte(u), []byte(m.Username))
-			pok := subtle.ConstantTimeCompare([]byte(p), []byte(m.password))
+			pok := subtle.ConstantTimeCompare([]byte(p), []byte(m.Password))
 			ok = has && uok&pok == 1
 			if !ok {
 				w.Header().Set("WWW-Authenticate", `Basic realm="holdfast metrics", charset="UTF-8"`)
@@ -171,26 +170,6 @@ func (d *Daemon) landing(w http.ResponseWriter, _ *http.Request) {
 	fmt.Fprintf(w, `<!doctype html><title>holdfast: %[1]s</title><h1>holdfast: %[1]s</h1>
 <p><a href="/metrics">/metrics</a> · <a href="/api/v1/gauges">/api/v1/gauges</a> · <a href="/healthz">/healthz</a></p>
 <p>A monitoring aid, not a safety interlock.</p>`, html.EscapeString(d.cfg.Chamber.Name))
-}
-
-// readToken reads the bearer token that guards changes. No file means no
-// token: the API then refuses every change.
-func readToken(path string) (string, error) {
-	if path == "" {
-		return "", nil
-	}
-	b, err := os.ReadFile(path)
-	if err != nil {
-		if errors.Is(err, fs.ErrNotExist) {
-			return "", fmt.Errorf("http.token_file: %w (make one with: holdfast token new %s)", err, path)
-		}
-		return "", fmt.Errorf("http.token_file: %w", err)
-	}
-	tok := strings.TrimSpace(string(b))
-	if len(tok) < 16 {
-		return "", fmt.Errorf("http.token_file %s: the token must be at least 16 characters (make one with: holdfast token new --force %s)", path, path)
-	}
-	return tok, nil
 }
 
 // changes wraps a handler that changes state (ack, shelve, activate a

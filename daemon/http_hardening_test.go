@@ -13,6 +13,7 @@ import (
 	"encoding/pem"
 	"errors"
 	"fmt"
+	"holdfast/daemon/config"
 	"io"
 	"math/big"
 	"net"
@@ -49,7 +50,7 @@ func startHardened(t *testing.T, dir, extra string) *Daemon {
 	if err := os.WriteFile(tok, []byte(hardenToken+"\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := ParseConfig("harden.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok, "HTTPEXTRA", extra).Replace(hardenConfig)))
+	cfg, err := config.ParseConfig("harden.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok, "HTTPEXTRA", extra).Replace(hardenConfig)))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -341,7 +342,11 @@ func TestNonLoopbackListenNeedsToken(t *testing.T) {
 			t.Fatal(err)
 		}
 		for _, checkOnly := range []bool{true, false} {
-			_, err := loadConfig(f, checkOnly)
+			load := config.LoadConfig
+			if checkOnly {
+				load = config.CheckConfig
+			}
+			_, err := load(f)
 			if err == nil || !strings.Contains(err.Error(), "http.listen") || !strings.Contains(err.Error(), "http.token_file") ||
 				!strings.Contains(err.Error(), "holdfast token new") {
 				t.Errorf("listen %s without a token (check only %v): %v; want a refusal naming http.listen, http.token_file and the fix", listen, checkOnly, err)
@@ -350,7 +355,7 @@ func TestNonLoopbackListenNeedsToken(t *testing.T) {
 	}
 	for _, listen := range []string{"127.0.0.1:0", "localhost:9781", "[::1]:9781"} {
 		conf := strings.Replace(strings.Replace(base, `"127.0.0.1:0"`, `"`+listen+`"`, 1), "  token_file: TOKEN\n", "", 1)
-		if _, err := ParseConfig("loop.yaml", []byte(conf)); err != nil {
+		if _, err := config.ParseConfig("loop.yaml", []byte(conf)); err != nil {
 			t.Errorf("loopback listen %s without a token: %v; want it accepted (changes are refused at run time)", listen, err)
 		}
 	}
@@ -371,7 +376,7 @@ func TestHTTPHardeningConfigProblems(t *testing.T) {
 		"  max_body_bytes: -5":           "http.max_body_bytes",
 	} {
 		conf := strings.NewReplacer("DIR", dir, "TOKEN", tok, "HTTPEXTRA", extra).Replace(hardenConfig)
-		if _, err := ParseConfig("bad.yaml", []byte(conf)); err == nil || !strings.Contains(err.Error(), want) {
+		if _, err := config.ParseConfig("bad.yaml", []byte(conf)); err == nil || !strings.Contains(err.Error(), want) {
 			t.Errorf("%s: %v; want a problem naming %q", extra, err, want)
 		}
 	}

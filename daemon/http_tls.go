@@ -1,11 +1,9 @@
 package daemon
 
 import (
-	"bytes"
 	"crypto/tls"
-	"crypto/x509"
-	"encoding/pem"
 	"fmt"
+	"holdfast/daemon/config"
 	"log/slog"
 	"net"
 	"net/http"
@@ -44,20 +42,11 @@ func newCertReloader(certFile, keyFile string, log *slog.Logger) (*certReloader,
 	if err != nil {
 		return nil, err
 	}
-	if r.cert, err = loadKeyPair(certFile, keyFile); err != nil {
+	if r.cert, err = config.LoadKeyPair(certFile, keyFile); err != nil {
 		return nil, err
 	}
 	r.stamp, r.checked = st, time.Now()
 	return r, nil
-}
-
-// loadKeyPair reads a PEM certificate and key, naming the keys in errors.
-func loadKeyPair(certFile, keyFile string) (*tls.Certificate, error) {
-	c, err := tls.LoadX509KeyPair(certFile, keyFile)
-	if err != nil {
-		return nil, fmt.Errorf("http.tls: cannot load cert_file %s with key_file %s: %w (want PEM files, the key matching the certificate)", certFile, keyFile, err)
-	}
-	return &c, nil
 }
 
 func (r *certReloader) stamps() ([2]fileStamp, error) {
@@ -82,7 +71,7 @@ func (r *certReloader) GetCertificate(*tls.ClientHelloInfo) (*tls.Certificate, e
 			r.log.Warn("tls certificate not rechecked; serving the last one", "err", err)
 		} else if st != r.stamp {
 			r.stamp = st // a pair that fails is tried again once it changes again
-			if c, err := loadKeyPair(r.certFile, r.keyFile); err != nil {
+			if c, err := config.LoadKeyPair(r.certFile, r.keyFile); err != nil {
 				r.log.Warn("tls certificate changed but does not load; serving the last one", "err", err)
 			} else {
 				r.cert = c
@@ -118,55 +107,17 @@ func (d *Daemon) listen() (net.Listener, error) {
 // (a config not passed through the checker) takes the default.
 func (d *Daemon) server(h http.Handler) *http.Server {
 	t := d.cfg.HTTP.Timeouts
-	or := func(v Duration, def time.Duration) time.Duration {
+	or := func(v config.Duration, def time.Duration) time.Duration {
 		if v > 0 {
 			return v.D()
 		}
 		return def
 	}
 	return &http.Server{Handler: h,
-		ReadHeaderTimeout: or(t.ReadHeader, defaultReadHeaderTimeout),
-		ReadTimeout:       or(t.Read, defaultReadTimeout),
-		WriteTimeout:      or(t.Write, defaultWriteTimeout),
-		IdleTimeout:       or(t.Idle, defaultIdleTimeout),
+		ReadHeaderTimeout: or(t.ReadHeader, config.DefaultReadHeaderTimeout),
+		ReadTimeout:       or(t.Read, config.DefaultReadTimeout),
+		WriteTimeout:      or(t.Write, config.DefaultWriteTimeout),
+		IdleTimeout:       or(t.Idle, config.DefaultIdleTimeout),
 		ErrorLog:          slog.NewLogLogger(d.log.With("part", "http").Handler(), slog.LevelDebug),
 	}
-}
-
-// Scheme is "https" when http.tls is set, else "http".
-func (h HTTPConfig) Scheme() string {
-	if h.TLS != nil {
-		return "https"
-	}
-	return "http"
-}
-
-// ClientTLS is how a command on the daemon's own machine (holdfast alarms,
-// report, ...) trusts it when it dials the listen address from the config:
-// the certificate in http.tls.cert_file, read at each handshake, must be
-// the one served, byte for byte, whatever names it carries; a cert_file
-// this user cannot read falls back to the system's roots. Nil without
-// http.tls.
-func (h HTTPConfig) ClientTLS() *tls.Config {
-	if h.TLS == nil {
-		return nil
-	}
-	certFile := h.TLS.CertFile
-	if _, err := os.ReadFile(certFile); err != nil {
-		return &tls.Config{MinVersion: tls.VersionTLS12}
-	}
-	return &tls.Config{MinVersion: tls.VersionTLS12,
-		InsecureSkipVerify: true, // replaced by the exact match below
-		VerifyPeerCertificate: func(raw [][]byte, _ [][]*x509.Certificate) error {
-			var want []byte
-			if b, err := os.ReadFile(certFile); err == nil {
-				if blk, _ := pem.Decode(b); blk != nil && blk.Type == "CERTIFICATE" {
-					want = blk.Bytes // the leaf comes first
-				}
-			}
-			if len(raw) == 0 || want == nil || !bytes.Equal(raw[0], want) {
-				return fmt.Errorf("the daemon's certificate is not the one in http.tls.cert_file %s", certFile)
-			}
-			return nil
-		}}
 }

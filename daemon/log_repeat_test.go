@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"errors"
+	"holdfast/daemon/config"
 	"log/slog"
 	"strings"
 	"testing"
@@ -18,7 +19,7 @@ import (
 // holdfast_log_errors_suppressed_total; other errors and other levels pass.
 func TestRepeatedErrorsAreSummed(t *testing.T) {
 	dir := t.TempDir()
-	cfg, err := ParseConfig("repeat.yaml", []byte(`
+	cfg, err := config.ParseConfig("repeat.yaml", []byte(`
 chamber: {name: repeat, volume: 10 L}
 store: {dir: `+dir+`}
 http: {listen: "127.0.0.1:0"}

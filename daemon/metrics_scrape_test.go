@@ -12,6 +12,7 @@ import (
 	"testing"
 	"time"
 
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -57,7 +58,7 @@ func scrapeDaemon(t *testing.T) *Daemon {
 	if err := os.WriteFile(secret, []byte("a hook secret of some length\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := ParseConfig("scrape.yaml", []byte(strings.NewReplacer("DIR", dir, "SECRET", secret).Replace(scrapeConfig)))
+	cfg, err := config.ParseConfig("scrape.yaml", []byte(strings.NewReplacer("DIR", dir, "SECRET", secret).Replace(scrapeConfig)))
 	if err != nil {
 		t.Fatal(err)
 	}

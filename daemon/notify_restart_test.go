@@ -15,6 +15,7 @@ import (
 	"time"
 
 	"holdfast/alerts"
+	"holdfast/daemon/config"
 )
 
 const restartHelperEnv = "NOTIFY_RESTART_HELPER" // config path, phase
@@ -34,7 +35,7 @@ func TestNotifyRestartHelper(t *testing.T) {
 		t.Skip("helper for TestNoResendAfterSIGKILL")
 	}
 	path, phase, _ := strings.Cut(spec, ",")
-	cfg, err := LoadConfig(path)
+	cfg, err := config.LoadConfig(path)
 	if err != nil {
 		fmt.Println("config:", err)
 		os.Exit(2)

@@ -13,6 +13,7 @@ import (
 	bolt "go.etcd.io/bbolt"
 
 	"holdfast/alerts/notify"
+	"holdfast/daemon/config"
 	"holdfast/daemon/outbox"
 )
 
@@ -26,7 +27,7 @@ type notifierSet struct {
 
 // sink is one configured notifier.
 type sink struct {
-	cfg  *NotifyConfig
+	cfg  *config.NotifyConfig
 	send notify.Notifier
 	am   *notify.Alertmanager // set for an alertmanager notifier
 	rs   *notify.Resender     // what it must be told again
@@ -54,7 +55,7 @@ func (d *Daemon) notifiers() *notifierSet {
 	return d.ntf
 }
 
-func newNotifierSet(cfg *Config, db *bolt.DB, clock Clock, log *slog.Logger) (*notifierSet, error) {
+func newNotifierSet(cfg *config.Config, db *bolt.DB, clock Clock, log *slog.Logger) (*notifierSet, error) {
 	ob, err := outbox.Open(db, clock, log)
 	if err != nil {
 		return nil, err
@@ -79,13 +80,13 @@ func newNotifierSet(cfg *Config, db *bolt.DB, clock Clock, log *slog.Logger) (*n
 // daemon's clock; those whose receivers compare times with their own wall
 // clock (signature age, Date, startsAt and endsAt) get them mapped to wall
 // time (see wallMap).
-func newSink(nc *NotifyConfig, clock Clock, wall wallMap) *sink {
+func newSink(nc *config.NotifyConfig, clock Clock, wall wallMap) *sink {
 	s := &sink{cfg: nc}
 	client := &http.Client{}
 	wallNow := func() time.Time { return wall.wall(clock.Now()) }
 	switch {
 	case nc.Webhook != nil:
-		s.send = &notify.Webhook{URL: nc.Webhook.URL, Secret: nc.Webhook.secret, Client: client, Now: wallNow}
+		s.send = &notify.Webhook{URL: nc.Webhook.URL, Secret: nc.Webhook.Secret, Client: client, Now: wallNow}
 	case nc.Alertmanager != nil:
 		s.am = &notify.Alertmanager{URL: nc.Alertmanager.URL, Resend: nc.Alertmanager.ResendEvery.D(), Client: client,
 			Now: clock.Now, Wall: wall.wall}
@@ -93,7 +94,7 @@ func newSink(nc *NotifyConfig, clock Clock, wall wallMap) *sink {
 	case nc.Mail != nil:
 		m := nc.Mail
 		s.send = &notify.Mail{Server: m.Server, From: m.From, To: m.To, Username: m.Username,
-			Password: m.password, PlainLoopback: m.PlainLoopback, Now: wallNow}
+			Password: m.Password, PlainLoopback: m.PlainLoopback, Now: wallNow}
 	case nc.Exec != nil:
 		s.send = &notify.Exec{Command: nc.Exec.Command, Args: nc.Exec.Args, Timeout: nc.Timeout.D()}
 	}

@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"holdfast/calib"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 	"holdfast/drivers"
 	"holdfast/drivers/sim"
@@ -33,7 +34,7 @@ type link struct {
 // A gauge is one measured channel and what the daemon last learned of it.
 type gauge struct {
 	name string
-	cfg  *GaugeConfig
+	cfg  *config.GaugeConfig
 	dim  calib.Dimension
 	unit calib.Unit
 	drv  drivers.Driver

@@ -11,6 +11,7 @@ import (
 
 	"holdfast/alerts"
 	"holdfast/calib"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 	"holdfast/drivers"
 )
@@ -44,7 +45,7 @@ func testDaemon(t *testing.T, gauges ...*gauge) *Daemon {
 		t.Fatal(err)
 	}
 	t.Cleanup(func() { db.Close() })
-	d := &Daemon{cfg: &Config{}, log: slog.New(slog.DiscardHandler), clock: wallClock{}, emit: func(Event) {},
+	d := &Daemon{cfg: &config.Config{}, log: slog.New(slog.DiscardHandler), clock: wallClock{}, emit: func(Event) {},
 		store: db, gauges: gauges, alarms: alerts.NewEngine(nil)}
 	d.met = newMetrics(d)
 	return d
@@ -52,7 +53,7 @@ func testDaemon(t *testing.T, gauges ...*gauge) *Daemon {
 
 func fakeGauge(name string, interval time.Duration, drv drivers.Driver) *gauge {
 	return &gauge{name: name, drv: drv, transfer: calib.Identity{}, dim: calib.Pressure,
-		cfg: &GaugeConfig{Interval: Duration(interval), Timeout: Duration(interval), Kind: "pressure"}}
+		cfg: &config.GaugeConfig{Interval: config.Duration(interval), Timeout: config.Duration(interval), Kind: "pressure"}}
 }
 
 // Polls on one link never overlap, and each gauge keeps its own interval.
@@ -92,7 +93,7 @@ func TestPollLinkSkipsWhenBehind(t *testing.T) {
 		var overlap atomic.Bool
 		drv := &fakeDriver{delay: 2500 * time.Millisecond, inFlight: &inFlight, overlap: &overlap}
 		g := fakeGauge("laggy", time.Second, drv)
-		g.cfg.Timeout = Duration(5 * time.Second)
+		g.cfg.Timeout = config.Duration(5 * time.Second)
 		d := testDaemon(t, g)
 		ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second-time.Millisecond)
 		defer cancel()
@@ -117,7 +118,7 @@ func TestGaugeDownAfterMisses(t *testing.T) {
 		var overlap atomic.Bool
 		drv := &fakeDriver{delay: time.Hour, inFlight: &inFlight, overlap: &overlap}
 		g := fakeGauge("mute", time.Second, drv)
-		g.cfg.Timeout = Duration(200 * time.Millisecond)
+		g.cfg.Timeout = config.Duration(200 * time.Millisecond)
 		g.seen, g.up = true, true
 		g.last = calib.Sample{At: time.Now(), Value: 5, Quality: calib.QualityOK}
 		d := testDaemon(t, g)

@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"holdfast/calib"
+	"holdfast/daemon/config"
 	"holdfast/drivers"
 )
 
@@ -33,7 +34,7 @@ type ProbeResult struct {
 // OpenProbe prepares gauge name of cfg; trace, when set, sees every message
 // sent ("send") and received ("recv"). A gauge with from: is probed through
 // the gauge whose exchange feeds it.
-func OpenProbe(cfg *Config, name string, log *slog.Logger, trace func(dir string, b []byte)) (*Probe, error) {
+func OpenProbe(cfg *config.Config, name string, log *slog.Logger, trace func(dir string, b []byte)) (*Probe, error) {
 	gc, ok := cfg.Gauges[name]
 	if !ok {
 		return nil, fmt.Errorf("no gauge %q in %s (known: %s)", name, cfg.File, strings.Join(sortedKeys(cfg.Gauges), ", "))
@@ -56,7 +57,7 @@ func OpenProbe(cfg *Config, name string, log *slog.Logger, trace func(dir string
 	g, err := d.buildGauge(name, src, l)
 	if err == nil && gc.From != "" {
 		g.cfg = gc
-		g.transfer, err = gaugeTransfer(gc)
+		g.transfer, err = config.GaugeTransfer(gc)
 	}
 	if err != nil {
 		if l.close != nil {
@@ -83,7 +84,7 @@ func (p *Probe) Read(ctx context.Context) ProbeResult {
 		r, err = p.g.drv.Read(ctx)
 	}
 	res := ProbeResult{Reading: r, Took: time.Since(start), Err: err, Kind: p.g.cfg.Kind}
-	res.Unit, _ = calib.ParseUnit(p.g.cfg.Unit, gaugeDim(p.g.cfg.Kind))
+	res.Unit, _ = calib.ParseUnit(p.g.cfg.Unit, config.GaugeDim(p.g.cfg.Kind))
 	if err == nil {
 		res.Sample, _ = p.d.sample(p.g, r)
 	}

@@ -13,6 +13,7 @@ import (
 
 	"github.com/prometheus/client_golang/prometheus"
 
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -79,7 +80,7 @@ func exportedFamilies(t *testing.T) map[string]bool {
 	if err := os.WriteFile(tok, []byte("a-test-token-of-some-length\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := ParseConfig("fleet.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(fleetDaemonConfig)))
+	cfg, err := config.ParseConfig("fleet.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(fleetDaemonConfig)))
 	if err != nil {
 		t.Fatal(err)
 	}

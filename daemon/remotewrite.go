@@ -14,6 +14,7 @@ import (
 	"github.com/prometheus/client_golang/exp/api/remote"
 	"github.com/prometheus/client_golang/prometheus"
 
+	"holdfast/daemon/config"
 	"holdfast/daemon/seriesio"
 	"holdfast/daemon/store"
 )
@@ -25,7 +26,7 @@ import (
 // receiver the gap is read again and sent: the central store gets no hole.
 // Sends and backoff run on the daemon's clock.
 type remoteWriter struct {
-	cfg    *RemoteWriteConfig
+	cfg    *config.RemoteWriteConfig
 	db     *store.DB
 	clock  Clock
 	log    *slog.Logger
@@ -85,7 +86,7 @@ func newRemoteWriter(d *Daemon) (*remoteWriter, error) {
 		slices.SortFunc(labels, func(a, b rwLabel) int { return strings.Compare(a.name, b.name) })
 		w.series = append(w.series, rwGauge{gauge: g.name, labels: labels})
 	}
-	client := &http.Client{Transport: bearer{token: cfg.token, base: http.DefaultTransport}}
+	client := &http.Client{Transport: bearer{token: cfg.Token, base: http.DefaultTransport}}
 	api, err := remote.NewAPI(cfg.URL,
 		remote.WithAPIPath(""), // the URL is the write endpoint as given
 		remote.WithAPIHTTPClient(client),

@@ -19,6 +19,7 @@ import (
 	"testing"
 	"time"
 
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 	"holdfast/drivers/sim"
 )
@@ -184,7 +185,7 @@ func TestRemoteWriteReplaysOutage(t *testing.T) {
 
 	dir := t.TempDir()
 	writeURL := "http://" + prom.addr + "/api/v1/write"
-	cfg, err := ParseConfig("rw.yaml", []byte(strings.NewReplacer("DIR", dir, "URL", writeURL).Replace(remoteConfig)))
+	cfg, err := config.ParseConfig("rw.yaml", []byte(strings.NewReplacer("DIR", dir, "URL", writeURL).Replace(remoteConfig)))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -292,7 +293,7 @@ func TestRemoteWriteRefusalsAndToken(t *testing.T) {
 	defer srv.Close()
 	text := strings.NewReplacer("DIR", dir, "URL", srv.URL+"/api/v1/write").Replace(remoteConfig)
 	text = strings.Replace(text, "  labels: {site: north-hall}\n", "  labels: {site: north-hall}\n  token_file: "+tok+"\n", 1)
-	cfg, err := ParseConfig("rw.yaml", []byte(text))
+	cfg, err := config.ParseConfig("rw.yaml", []byte(text))
 	if err != nil {
 		t.Fatal(err)
 	}

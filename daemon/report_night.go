@@ -17,6 +17,7 @@ import (
 	"holdfast/alerts"
 	"holdfast/calib"
 	"holdfast/daemon/alarmstore"
+	"holdfast/daemon/config"
 	"holdfast/daemon/report"
 	"holdfast/daemon/store"
 )
@@ -47,7 +48,7 @@ func (d *Daemon) WriteReport(w io.Writer, from, to time.Time, format string) err
 // ReportFromDir renders the report of from–to from cfg's data directory,
 // opened read-only; it fails at once, wrapping ErrDataInUse, while a daemon
 // holds the directory.
-func ReportFromDir(w io.Writer, cfg *Config, from, to time.Time, format string) (err error) {
+func ReportFromDir(w io.Writer, cfg *config.Config, from, to time.Time, format string) (err error) {
 	db, err := openIdle(cfg.Store.Dir)
 	if err != nil {
 		return err
@@ -65,7 +66,7 @@ func ReportFromDir(w io.Writer, cfg *Config, from, to time.Time, format string) 
 // tests recorded in it, and each pump_down rule's target and when it was
 // reached. A part that cannot be read becomes a note in the header; only a
 // store that cannot be read at all is an error.
-func gatherNight(cfg *Config, db *store.DB, from, to, now time.Time) (*report.Night, error) {
+func gatherNight(cfg *config.Config, db *store.DB, from, to, now time.Time) (*report.Night, error) {
 	if !to.After(from) {
 		return nil, fmt.Errorf("report: the period %s to %s is empty; want from before to", from.Format(time.RFC3339), to.Format(time.RFC3339))
 	}
@@ -111,8 +112,8 @@ func gatherNight(cfg *Config, db *store.DB, from, to, now time.Time) (*report.Ni
 // reportUnit is the report's display unit of a kind: report.unit for
 // pressure when set, else the unit most of those gauges show (by name
 // order on a tie), else the base unit.
-func reportUnit(cfg *Config, kind string) calib.Unit {
-	dim := gaugeDim(kind)
+func reportUnit(cfg *config.Config, kind string) calib.Unit {
+	dim := config.GaugeDim(kind)
 	if r := cfg.Report; r != nil && r.Unit != "" && kind == "pressure" {
 		if u, err := calib.ParseUnit(r.Unit, dim); err == nil {
 			return u
@@ -137,7 +138,7 @@ func reportUnit(cfg *Config, kind string) calib.Unit {
 // reportSeries reads one gauge's reduced points. Lines join points no
 // further apart than three poll intervals plus a timeout, or than the
 // reduction's buckets (2.5 of them), whichever is longer.
-func reportSeries(cfg *Config, db *store.DB, name string, from, to time.Time) (report.Series, error) {
+func reportSeries(cfg *config.Config, db *store.DB, name string, from, to time.Time) (report.Series, error) {
 	g := cfg.Gauges[name]
 	iv := gaugeInterval(cfg, name)
 	bucket := to.Sub(from) / time.Duration(reportPoints/5)
@@ -160,13 +161,13 @@ func reportPoint(p store.Point) report.Point {
 
 // gaugeInterval is a gauge's poll interval; a combined gauge's is its
 // slowest member's.
-func gaugeInterval(cfg *Config, name string) time.Duration {
+func gaugeInterval(cfg *config.Config, name string) time.Duration {
 	g := cfg.Gauges[name]
 	if g == nil {
-		return defaultInterval
+		return config.DefaultInterval
 	}
 	if len(g.Combine) == 0 {
-		return cmp.Or(g.Interval.D(), defaultInterval)
+		return cmp.Or(g.Interval.D(), config.DefaultInterval)
 	}
 	var iv time.Duration
 	for _, m := range g.Combine {
@@ -174,7 +175,7 @@ func gaugeInterval(cfg *Config, name string) time.Duration {
 			iv = max(iv, mc.Interval.D())
 		}
 	}
-	return cmp.Or(iv, defaultInterval)
+	return cmp.Or(iv, config.DefaultInterval)
 }
 
 // alarmPeriods pairs each raise with the clear that follows it and keeps
@@ -238,7 +239,7 @@ func reportHoldTests(hs []HoldTestJSON, from, to time.Time) []report.HoldTest {
 
 // pumpDowns follows each pump_down rule over the gauge's full record of
 // the period (not the reduced one: the time reached is to the sample).
-func pumpDowns(cfg *Config, db *store.DB, from, to time.Time) ([]report.PumpDown, error) {
+func pumpDowns(cfg *config.Config, db *store.DB, from, to time.Time) ([]report.PumpDown, error) {
 	var out []report.PumpDown
 	var errs []error
 	for _, a := range cfg.Alarms {
@@ -294,7 +295,7 @@ func isLocked(err error) bool { return errors.Is(err, berrors.ErrTimeout) }
 // stored series becomes a gauge of the kind kinds gives it, pressure when
 // kinds names none; those are returned as guessed, for the caller to say so.
 // Units are the base units (Pa, °C); the chamber is named after the directory.
-func BareReportConfig(dir string, kinds map[string]string) (cfg *Config, guessed []string, err error) {
+func BareReportConfig(dir string, kinds map[string]string) (cfg *config.Config, guessed []string, err error) {
 	db, err := openIdle(dir)
 	if err != nil {
 		return nil, nil, err
@@ -304,8 +305,8 @@ func BareReportConfig(dir string, kinds map[string]string) (cfg *Config, guessed
 	if err != nil {
 		return nil, nil, err
 	}
-	cfg = &Config{Chamber: ChamberConfig{Name: filepath.Base(filepath.Clean(dir))}, Store: StoreConfig{Dir: dir},
-		Gauges: map[string]*GaugeConfig{}}
+	cfg = &config.Config{Chamber: config.ChamberConfig{Name: filepath.Base(filepath.Clean(dir))}, Store: config.StoreConfig{Dir: dir},
+		Gauges: map[string]*config.GaugeConfig{}}
 	for name, k := range kinds {
 		if !slices.Contains(series, name) {
 			return nil, nil, fmt.Errorf("--kind %s=%s: no series %q stored in %s (stored: %s)", name, k, name, dir, strings.Join(series, ", "))
@@ -319,7 +320,7 @@ func BareReportConfig(dir string, kinds map[string]string) (cfg *Config, guessed
 		if k == "" {
 			k, guessed = "pressure", append(guessed, s)
 		}
-		cfg.Gauges[s] = &GaugeConfig{Kind: k}
+		cfg.Gauges[s] = &config.GaugeConfig{Kind: k}
 	}
 	return cfg, guessed, nil
 }

@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"holdfast/alerts/notify"
+	"holdfast/daemon/config"
 	"holdfast/daemon/outbox"
 	"holdfast/daemon/report"
 )
@@ -22,7 +23,7 @@ import (
 // daemon's clock until ctx is done.
 func (d *Daemon) reportLoop(ctx context.Context) {
 	rc := d.cfg.Report
-	if !rc.scheduled() {
+	if !rc.Scheduled() {
 		return
 	}
 	log := d.log.With("part", "report")
@@ -47,12 +48,12 @@ func (d *Daemon) reportLoop(ctx context.Context) {
 
 // firstReport is the first report time after now: the next at (local
 // time of day), or one period from now without at.
-func firstReport(now time.Time, rc *ReportConfig) time.Time {
-	if rc.atOffset < 0 {
+func firstReport(now time.Time, rc *config.ReportConfig) time.Time {
+	if rc.AtOffset < 0 {
 		return now.Add(rc.Every.D())
 	}
 	y, m, day := now.Date()
-	at := time.Date(y, m, day, int(rc.atOffset/time.Hour), int(rc.atOffset%time.Hour/time.Minute), 0, 0, now.Location())
+	at := time.Date(y, m, day, int(rc.AtOffset/time.Hour), int(rc.AtOffset%time.Hour/time.Minute), 0, 0, now.Location())
 	for !at.After(now) {
 		at = nextReport(at, rc.Every.D())
 	}
@@ -70,21 +71,21 @@ func nextReport(t time.Time, every time.Duration) time.Time {
 
 // scheduledReport writes the report of the period ending at into the
 // report directory, prunes old ones and, with notify, queues the link.
-func (d *Daemon) scheduledReport(at time.Time, rc *ReportConfig) (string, error) {
+func (d *Daemon) scheduledReport(at time.Time, rc *config.ReportConfig) (string, error) {
 	from := at.Add(-rc.Every.D())
-	if rc.atOffset >= 0 && rc.Every.D()%(24*time.Hour) == 0 {
+	if rc.AtOffset >= 0 && rc.Every.D()%(24*time.Hour) == 0 {
 		from = at.AddDate(0, 0, -int(rc.Every.D()/(24*time.Hour)))
 	}
 	n, err := d.Night(from, at)
 	if err != nil {
 		return "", err
 	}
-	path, err := writeReportFile(d.cfg.reportDir(), n, rc.Format)
+	path, err := writeReportFile(d.cfg.ReportDir(), n, rc.Format)
 	if err != nil {
 		return "", err
 	}
 	if rc.Keep > 0 {
-		if err := pruneReports(d.cfg.reportDir(), rc.Keep); err != nil {
+		if err := pruneReports(d.cfg.ReportDir(), rc.Keep); err != nil {
 			d.log.Warn("old reports not removed", "part", "report", "err", err)
 		}
 	}

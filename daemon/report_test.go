@@ -22,6 +22,7 @@ import (
 	"holdfast/alerts/notify"
 	"holdfast/calib"
 	"holdfast/daemon/alarmstore"
+	"holdfast/daemon/config"
 	"holdfast/daemon/report"
 	"holdfast/daemon/store"
 	"holdfast/drivers/sim"
@@ -52,10 +53,10 @@ alarms:
   - {name: ion-silent, gauge: ion, stale: 2 min, severity: medium}
 EXTRA`
 
-func reportCfg(t *testing.T, dir, extra string) *Config {
+func reportCfg(t *testing.T, dir, extra string) *config.Config {
 	t.Helper()
 	text := strings.NewReplacer("DIR", dir, "EXTRA", extra).Replace(reportConfig)
-	cfg, err := ParseConfig("report.yaml", []byte(text))
+	cfg, err := config.ParseConfig("report.yaml", []byte(text))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -276,13 +277,13 @@ report: {at: "07:00", format: svg, notify: true, url: "https://bench.example.int
 		}
 		time.Sleep(first.Sub(start) - time.Second)
 		synctest.Wait()
-		if ents, _ := os.ReadDir(cfg.reportDir()); len(ents) != 0 {
+		if ents, _ := os.ReadDir(cfg.ReportDir()); len(ents) != 0 {
 			t.Fatalf("%d files before 07:00, want none", len(ents))
 		}
 		time.Sleep(2 * time.Second)
 		synctest.Wait()
 		name1 := "report-bake-2-" + first.Format("2006-01-02T1504") + ".svg"
-		if _, err := os.Stat(filepath.Join(cfg.reportDir(), name1)); err != nil {
+		if _, err := os.Stat(filepath.Join(cfg.ReportDir(), name1)); err != nil {
 			t.Fatalf("no first report: %v", err)
 		}
 		time.Sleep(24 * time.Hour)
@@ -291,7 +292,7 @@ report: {at: "07:00", format: svg, notify: true, url: "https://bench.example.int
 		wg.Wait()
 		second := time.Date(first.Year(), first.Month(), first.Day()+1, 7, 0, 0, 0, time.Local)
 		name2 := "report-bake-2-" + second.Format("2006-01-02T1504") + ".svg"
-		ents, _ := os.ReadDir(cfg.reportDir())
+		ents, _ := os.ReadDir(cfg.ReportDir())
 		if len(ents) != 1 || ents[0].Name() != name2 {
 			t.Errorf("report directory holds %v, want only %s (keep: 1)", ents, name2)
 		}
@@ -327,8 +328,8 @@ report:
   keep: -1
   notify: true
 `).Replace(reportConfig)
-	_, err := ParseConfig("report.yaml", []byte(text))
-	var ce *ConfigError
+	_, err := config.ParseConfig("report.yaml", []byte(text))
+	var ce *config.ConfigError
 	if !errors.As(err, &ce) {
 		t.Fatalf("got %v, want a *ConfigError", err)
 	}

@@ -14,6 +14,7 @@ import (
 
 	"github.com/creack/pty"
 
+	"holdfast/daemon/config"
 	"holdfast/drivers"
 )
 
@@ -77,7 +78,7 @@ gauges:
     interval: 100ms
   high: {link: bus, driver: ascii, from: rough, channel: "2", raw_unit: mbar, kind: pressure}
 `, dir, dev)
-	cfg, err := ParseConfig("pty.yaml", []byte(cfgText))
+	cfg, err := config.ParseConfig("pty.yaml", []byte(cfgText))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -151,7 +152,7 @@ func TestBenchExampleRS485Exchange(t *testing.T) {
 		}
 	}()
 	defer func() { master.Close(); slave.Close(); <-done }()
-	cfg, err := LoadConfig(filepath.Join("..", "deploy", "examples", "bench.yaml"))
+	cfg, err := config.LoadConfig(filepath.Join("..", "deploy", "examples", "bench.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -20,6 +20,7 @@ import (
 
 	"holdfast/alerts"
 	"holdfast/daemon/alarmstore"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 )
 
@@ -67,7 +68,7 @@ func TestCrashHelper(t *testing.T) {
 	if path == "" {
 		t.Skip("helper for TestCrashTrial")
 	}
-	cfg, err := LoadConfig(path)
+	cfg, err := config.LoadConfig(path)
 	if err != nil {
 		fmt.Println("config:", err)
 		os.Exit(2)

@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"holdfast/daemon/alarmstore"
+	"holdfast/daemon/config"
 	"holdfast/drivers"
 )
 
@@ -94,7 +95,7 @@ func BenchmarkPipeline(b *testing.B) {
 	clock := &settableClock{}
 	t0 := time.Date(2031, 5, 6, 20, 0, 0, 0, time.UTC)
 	clock.set(t0)
-	cfg, err := ParseConfig("pipeline.yaml", []byte(pipelineConfig(b.TempDir())))
+	cfg, err := config.ParseConfig("pipeline.yaml", []byte(pipelineConfig(b.TempDir())))
 	if err != nil {
 		b.Fatal(err)
 	}

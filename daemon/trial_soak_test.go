@@ -13,6 +13,7 @@ import (
 	"testing"
 	"time"
 
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 )
 
@@ -172,7 +173,7 @@ func TestSoak(t *testing.T) {
 		t.Skip("soak: run with -soak=60s")
 	}
 	dir := t.TempDir()
-	cfg, err := ParseConfig("soak.yaml", []byte(soakConfig(dir)))
+	cfg, err := config.ParseConfig("soak.yaml", []byte(soakConfig(dir)))
 	if err != nil {
 		t.Fatal(err)
 	}

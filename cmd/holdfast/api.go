@@ -14,7 +14,7 @@ import (
 	"syscall"
 	"time"
 
-	"holdfast/daemon"
+	"holdfast/daemon/config"
 )
 
 // apiClient talks to a running daemon's /api/v1/. Commands that need live
@@ -29,14 +29,14 @@ type apiClient struct {
 // addAPIFlags registers --daemon and --token-file on fs.
 func addAPIFlags(fs *flag.FlagSet) *apiClient {
 	c := &apiClient{http: &http.Client{Timeout: 30 * time.Second}}
-	fs.StringVar(&c.base, "daemon", "http://"+daemon.DefaultListen, "the running daemon's `URL`")
+	fs.StringVar(&c.base, "daemon", "http://"+config.DefaultListen, "the running daemon's `URL`")
 	fs.StringVar(&c.tokenFile, "token-file", "", "`file` holding the daemon's bearer token (the config's http.token_file); needed for changes")
 	return c
 }
 
 // forConfig points the client at the daemon the config describes, over
 // HTTPS when http.tls is set.
-func (c *apiClient) forConfig(cfg *daemon.Config) {
+func (c *apiClient) forConfig(cfg *config.Config) {
 	c.base = cfg.HTTP.Scheme() + "://" + loopbackFor(cfg.HTTP.Listen)
 	if t := cfg.HTTP.ClientTLS(); t != nil {
 		c.http.Transport = &http.Transport{TLSClientConfig: t, Proxy: http.ProxyFromEnvironment}

@@ -15,6 +15,7 @@ import (
 	"testing"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/drivers"
 )
 
@@ -164,7 +165,7 @@ func badInputsDaemon(t *testing.T) (addr, token string) {
 	if err := os.WriteFile(tok, []byte(token), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	cfg, err := daemon.ParseConfig("bench.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(cmdLiveConfig)))
+	cfg, err := config.ParseConfig("bench.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(cmdLiveConfig)))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -38,7 +39,7 @@ func TestBakeCommandsAgainstDaemon(t *testing.T) {
 		t.Fatal(err)
 	}
 	text := strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(bakeCfg)
-	cfg, err := daemon.ParseConfig("bake.yaml", []byte(text))
+	cfg, err := config.ParseConfig("bake.yaml", []byte(text))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -46,7 +47,7 @@ func TestCalibLiveCommands(t *testing.T) {
 	dir := t.TempDir()
 	tok := filepath.Join(dir, "token")
 	os.WriteFile(tok, []byte("cli-bench-token-0123456789"), 0o600)
-	cfg, err := daemon.ParseConfig("bench.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(cmdLiveConfig)))
+	cfg, err := config.ParseConfig("bench.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(cmdLiveConfig)))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -9,6 +9,7 @@ import (
 	"log/slog"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 )
 
 func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error {
@@ -26,11 +27,11 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	if err != nil {
 		return err
 	}
-	cfg, err := daemon.LoadConfig(*file)
+	cfg, err := config.LoadConfig(*file)
 	if err != nil {
 		return configFailed(stderr, err)
 	}
-	for _, w := range daemon.SecretWarnings(cfg) {
+	for _, w := range config.SecretWarnings(cfg) {
 		log.Warn("config: "+w, "config", *file)
 	}
 	d, err := daemon.New(cfg, daemon.Options{Log: log})
@@ -56,13 +57,13 @@ func cmdCheck(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	}
 	bad := 0
 	for _, f := range files {
-		cfg, err := daemon.CheckConfig(f)
+		cfg, err := config.CheckConfig(f)
 		if err != nil {
 			bad++
 			fmt.Fprintln(stderr, describeConfigError(err))
 			continue
 		}
-		fmt.Fprintln(stdout, daemon.Summary(cfg))
+		fmt.Fprintln(stdout, config.Summary(cfg))
 		for _, n := range cfg.Notes {
 			fmt.Fprintf(stdout, "%s:%s\n", f, n)
 		}
@@ -74,7 +75,7 @@ func cmdCheck(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 }
 
 func configFailed(stderr io.Writer, err error) error {
-	var ce *daemon.ConfigError
+	var ce *config.ConfigError
 	if errors.As(err, &ce) {
 		fmt.Fprintln(stderr, ce.Error())
 		return fmt.Errorf("%s: %d problem(s); fix them and run again (holdfast check --config %s)", ce.File, len(ce.Problems), ce.File)
@@ -83,7 +84,7 @@ func configFailed(stderr io.Writer, err error) error {
 }
 
 func describeConfigError(err error) string {
-	var ce *daemon.ConfigError
+	var ce *config.ConfigError
 	if errors.As(err, &ce) {
 		return ce.Error()
 	}

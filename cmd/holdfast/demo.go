@@ -16,6 +16,7 @@ import (
 
 	"holdfast/alerts"
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -29,7 +30,7 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	fs := newFlags("demo", "[flags]", stderr)
 	speed := fs.Float64("speed", 60, "simulated seconds per wall second")
 	dur := fs.Duration("for", 0, "stop after this much wall time, e.g. 25s (default: until interrupted)")
-	listen := fs.String("listen", daemon.DefaultListen, "HTTP `address` for /metrics and the API")
+	listen := fs.String("listen", config.DefaultListen, "HTTP `address` for /metrics and the API")
 	data := fs.String("data", "", "data `directory` (default: a fresh temporary directory, removed at exit)")
 	keep := fs.Bool("keep", false, "keep the temporary data directory at exit")
 	file := fs.String("config", "", "run another simulated scenario from this config `file` instead of the built-in one")
@@ -94,7 +95,7 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 // demoReport writes the report of the run (the daemon has stopped, so the
 // data directory opens read-only) into the data directory when it is kept,
 // else into the system's temporary directory, and prints its path.
-func demoReport(w io.Writer, cfg *daemon.Config, from, to time.Time, kept bool) error {
+func demoReport(w io.Writer, cfg *config.Config, from, to time.Time, kept bool) error {
 	var buf bytes.Buffer
 	if err := daemon.ReportFromDir(&buf, cfg, from, to, "html"); err != nil {
 		return fmt.Errorf("report of the run: %w", err)
@@ -114,15 +115,15 @@ func demoReport(w io.Writer, cfg *daemon.Config, from, to time.Time, kept bool) 
 // demoScenario loads the built-in scenario, or file. The demo runs on the
 // simulator's fast clock, so a config that reaches real hardware (a
 // serial, TCP or Modbus link) is refused: use holdfast run for that.
-func demoScenario(file string) (*daemon.Config, error) {
+func demoScenario(file string) (*config.Config, error) {
 	if file == "" {
-		return daemon.ParseConfig("demo.yaml (built in)", demoConfig)
+		return config.ParseConfig("demo.yaml (built in)", demoConfig)
 	}
-	cfg, err := daemon.LoadConfig(file)
+	cfg, err := config.LoadConfig(file)
 	if err != nil {
 		return nil, err
 	}
-	if real := daemon.HardwareLinks(cfg); len(real) > 0 {
+	if real := config.HardwareLinks(cfg); len(real) > 0 {
 		return nil, fmt.Errorf("%s: link %s reaches real hardware; the demo runs only simulated links (use holdfast run --config %s)",
 			file, strings.Join(real, ", "), file)
 	}

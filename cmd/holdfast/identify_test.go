@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 )
 
@@ -131,7 +132,7 @@ func TestIdentifyKeepsWrongInstrumentOff(t *testing.T) {
 	}
 
 	stop := serveSim(t, dev, "--config", example("pty-sim.yaml"))
-	cfg, err := daemon.LoadConfig(example("pty-demo.yaml"))
+	cfg, err := config.LoadConfig(example("pty-demo.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -10,6 +10,7 @@ import (
 
 	"holdfast/calib"
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 )
 
 func cmdProbe(ctx context.Context, args []string, stdout, stderr io.Writer) error {
@@ -29,7 +30,7 @@ func cmdProbe(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	if *count < 1 {
 		return errUsage("--count must be at least 1, got %d", *count)
 	}
-	cfg, err := daemon.LoadConfig(*file)
+	cfg, err := config.LoadConfig(*file)
 	if err != nil {
 		return configFailed(stderr, err)
 	}

@@ -10,6 +10,7 @@ import (
 
 	"holdfast/calib"
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 )
 
 // The serial demo of the README (simulate pty-sim.yaml at the README's
@@ -29,15 +30,15 @@ func TestPtyDemoAlarmCanFireAtReadmeSpeed(t *testing.T) {
 	}
 	speed, _ := strconv.ParseFloat(string(m[1]), 64)
 
-	simCfg, err := daemon.LoadConfig(example("pty-sim.yaml"))
+	simCfg, err := config.LoadConfig(example("pty-sim.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	demo, err := daemon.LoadConfig(example("pty-demo.yaml"))
+	demo, err := config.LoadConfig(example("pty-demo.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	var al *daemon.AlarmConfig
+	var al *config.AlarmConfig
 	for i := range demo.Alarms {
 		if demo.Alarms[i].Name == "lock-not-holding" {
 			al = demo.Alarms[i]

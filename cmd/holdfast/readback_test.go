@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -45,7 +46,7 @@ func runHF(t *testing.T, args ...string) (string, string, error) {
 // holdDir runs a daemon on dir until the test ends and returns its URL.
 func holdDir(t *testing.T, dir string) string {
 	t.Helper()
-	cfg, err := daemon.ParseConfig("hold.yaml", []byte(`
+	cfg, err := config.ParseConfig("hold.yaml", []byte(`
 chamber: {name: readback, volume: 30 L}
 http: {listen: "127.0.0.1:0"}
 store: {dir: `+dir+`}

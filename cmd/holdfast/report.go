@@ -18,6 +18,7 @@ import (
 
 	"holdfast/calib"
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/daemon/report"
 )
 
@@ -89,10 +90,10 @@ func cmdReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 // else asks the daemon, and says on stderr which it did.
 func reportBytes(ctx context.Context, api *apiClient, daemonSet bool, file, data string, kinds map[string]string, from, to time.Time, format string, stderr io.Writer) ([]byte, error) {
 	if file != "" || data != "" {
-		var cfg *daemon.Config
+		var cfg *config.Config
 		var err error
 		if file != "" {
-			if cfg, err = daemon.CheckConfig(file); err == nil && data != "" {
+			if cfg, err = config.CheckConfig(file); err == nil && data != "" {
 				cfg.Store.Dir = data
 			}
 		} else {

@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -76,7 +77,7 @@ func TestReportFromDemoDirectoryAndDaemon(t *testing.T) {
 		t.Errorf("no PNG written: %v", err)
 	}
 
-	cfg, err := daemon.LoadConfig(cfgPath)
+	cfg, err := config.LoadConfig(cfgPath)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -14,6 +14,7 @@ import (
 
 	"holdfast/calib"
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/drivers/sim"
 )
 
@@ -30,7 +31,7 @@ func cmdSimulate(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	if err != nil {
 		return err
 	}
-	cfg, err := daemon.LoadConfig(a.file)
+	cfg, err := config.LoadConfig(a.file)
 	if err != nil {
 		return configFailed(stderr, err)
 	}
@@ -119,7 +120,7 @@ func parseSimulate(args []string, stderr io.Writer) (simulateArgs, error) {
 
 // simulatorLink picks the simulator link to serve: the one named, or the
 // config's only one.
-func simulatorLink(cfg *daemon.Config, name string) (string, error) {
+func simulatorLink(cfg *config.Config, name string) (string, error) {
 	var links []string
 	for n, l := range cfg.Links {
 		if l != nil && l.Simulator != nil {

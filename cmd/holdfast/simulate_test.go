@@ -17,6 +17,7 @@ import (
 	"time"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/drivers"
 )
 
@@ -93,12 +94,12 @@ func startSimulate(t *testing.T, dev string, args ...string) *bannerWriter {
 // dev and probes one gauge through it.
 func probeExample(t *testing.T, file, dev, gauge string) daemon.ProbeResult {
 	t.Helper()
-	cfg, err := daemon.LoadConfig(example(file))
+	cfg, err := config.LoadConfig(example(file))
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, l := range cfg.Links {
-		for _, s := range []*daemon.SerialLinkConfig{l.Serial, l.ModbusRTU} {
+		for _, s := range []*config.SerialLinkConfig{l.Serial, l.ModbusRTU} {
 			if s != nil {
 				s.Device = dev
 			}
@@ -234,7 +235,7 @@ func TestSimulateFeedsTheDaemon(t *testing.T) {
 	dir := t.TempDir()
 	dev := filepath.Join(dir, "holdfast-sim")
 	startSimulate(t, dev, "--config", example("pty-sim.yaml"), "--speed", "60")
-	cfg, err := daemon.LoadConfig(example("pty-demo.yaml"))
+	cfg, err := config.LoadConfig(example("pty-demo.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -15,6 +15,7 @@ import (
 	"time"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 	"holdfast/daemon/store"
 )
 
@@ -28,7 +29,7 @@ type source struct {
 	dir    string
 	config string
 	api    *apiClient
-	cfg    *daemon.Config
+	cfg    *config.Config
 }
 
 // addSourceFlags registers --data, --config, --daemon and --token-file.
@@ -45,7 +46,7 @@ func (s *source) resolve(fs *flag.FlagSet) error {
 	if s.config == "" {
 		return nil
 	}
-	cfg, err := daemon.CheckConfig(s.config)
+	cfg, err := config.CheckConfig(s.config)
 	if err != nil {
 		return fmt.Errorf("--config: %w", err)
 	}
