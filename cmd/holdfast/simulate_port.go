@@ -11,11 +11,29 @@ import (
 )
 
 // linkPort makes path a symbolic link to the pseudo-terminal slave, so the
-// daemon's config can name a fixed device. A symlink left by a simulator
-// that did not exit cleanly (its target is gone) is replaced; a symlink to
-// something that exists, or any other file, is refused, so nothing is lost.
-// The returned func removes the link, if it still points at slave.
+// daemon's config can name a fixed device, and holds a lock beside it
+// (".NAME.lock", see portLock) while simulate runs. A second simulate on
+// the same path is refused by the lock. A symlink left by a simulate that
+// did not exit cleanly (its lock file is there but free, or its target is
+// gone) is replaced, even when its pseudo-terminal number has been handed
+// out again; a symlink to something that exists that no simulate made, or
+// any other file, is refused, so nothing is lost. The returned func
+// removes the link, if it still points at slave, and the lock.
 func linkPort(path, slave string, stdout io.Writer) (func() error, error) {
+	lock, err := lockPort(filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".lock"), path)
+	if err != nil {
+		return nil, err
+	}
+	unlink, err := makeLink(path, slave, lock.existed, stdout)
+	if err != nil {
+		return nil, errors.Join(err, lock.release())
+	}
+	return func() error { return errors.Join(unlink(), lock.release()) }, nil
+}
+
+// makeLink makes path a link to slave, replacing a stale link: one a dead
+// simulate left (stale true) or one whose target is gone.
+func makeLink(path, slave string, stale bool, stdout io.Writer) (func() error, error) {
 	fi, err := os.Lstat(path)
 	switch {
 	case errors.Is(err, fs.ErrNotExist):
@@ -25,8 +43,8 @@ func linkPort(path, slave string, stdout io.Writer) (func() error, error) {
 		return nil, fmt.Errorf("--pty %s: a %s is there, not a symlink; refusing to replace it (remove it yourself or choose another path)", path, fileKind(fi))
 	default:
 		old, _ := os.Readlink(path)
-		if _, err := os.Stat(path); err == nil {
-			return nil, fmt.Errorf("--pty %s: already links to %s, which exists (another holdfast simulate?); stop that one, remove the link, or choose another path", path, old)
+		if _, err := os.Stat(path); err == nil && !stale {
+			return nil, fmt.Errorf("--pty %s: already links to %s, which exists, and no holdfast simulate made it; remove the link or choose another path", path, old)
 		}
 		fmt.Fprintf(stdout, "replacing %s, a stale link to %s\n", path, old)
 	}

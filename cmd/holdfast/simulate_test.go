@@ -175,12 +175,19 @@ func TestSimulatePortLink(t *testing.T) {
 	if target, _ := os.Readlink(dev); target != "/dev/null" {
 		t.Errorf("link points at %q, want /dev/null", target)
 	}
-	if _, err := linkPort(dev, "/dev/zero", &out); err == nil || !strings.Contains(err.Error(), "exists") {
+	if _, err := linkPort(dev, "/dev/zero", &out); err == nil || !strings.Contains(err.Error(), "another holdfast simulate") {
 		t.Errorf("a live link: err = %v, want a refusal", err)
 	}
 	if err := unlink(); err != nil {
 		t.Fatal(err)
 	}
+	if err := os.Symlink("/dev/null", dev); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := linkPort(dev, "/dev/zero", &out); err == nil || !strings.Contains(err.Error(), "no holdfast simulate made it") {
+		t.Errorf("someone's own link to a device: err = %v, want a refusal", err)
+	}
+	os.Remove(dev)
 	if _, err := os.Lstat(dev); !os.IsNotExist(err) {
 		t.Errorf("link still there after unlink: %v", err)
 	}
