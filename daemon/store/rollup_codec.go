@@ -196,3 +196,74 @@ func (d *rdr) byte() byte {
 	d.b = d.b[1:]
 	return v
 }
+
+// The open roll-up (rollupstore.go, keyOpen) is rewritten on every flush,
+// so it is coded plainly, for speed rather than size (one per series and
+// tier): version (1 byte, 3) | CRC-32C (4 bytes) | start (8 bytes, ns) |
+// count, valid, not-ok (uvarints) | sum, compensation (8 bytes each) |
+// slot count (1 byte) | per slot: time offset from start (uvarint, ns),
+// Raw, Value (8 bytes each), quality (1 byte), calibration (uvarint).
+const openVersion = 3
+
+// encodeOpen encodes one roll-up plainly.
+func encodeOpen(r Rollup) []byte {
+	b := make([]byte, 5, 64+6*30)
+	b[0] = openVersion
+	start := r.Start.UnixNano()
+	b = binary.BigEndian.AppendUint64(b, uint64(start))
+	b = binary.AppendUvarint(b, uint64(r.Count))
+	b = binary.AppendUvarint(b, uint64(r.Valid))
+	b = binary.AppendUvarint(b, uint64(r.NotOK))
+	b = binary.LittleEndian.AppendUint64(b, math.Float64bits(r.sum))
+	b = binary.LittleEndian.AppendUint64(b, math.Float64bits(r.comp))
+	var ps [6]*Point
+	slots := r.slotsTo(ps[:0])
+	b = append(b, byte(len(slots)))
+	for _, p := range slots {
+		b = binary.AppendUvarint(b, uint64(p.At.UnixNano()-start))
+		b = binary.LittleEndian.AppendUint64(b, math.Float64bits(p.Raw))
+		b = binary.LittleEndian.AppendUint64(b, math.Float64bits(p.Value))
+		b = append(b, p.Quality)
+		b = binary.AppendUvarint(b, uint64(p.Calibration))
+	}
+	binary.LittleEndian.PutUint32(b[1:5], crc32.Checksum(b[5:], castagnoli))
+	return b
+}
+
+// decodeOpen decodes an open roll-up of width.
+func decodeOpen(b []byte, width time.Duration) (Rollup, error) {
+	if len(b) < 13 || b[0] != openVersion {
+		return Rollup{}, errors.New("open roll-up: not a record this holdfast reads")
+	}
+	if crc32.Checksum(b[5:], castagnoli) != binary.LittleEndian.Uint32(b[1:5]) {
+		return Rollup{}, errors.New("open roll-up: checksum mismatch: the record is damaged")
+	}
+	start := int64(binary.BigEndian.Uint64(b[5:]))
+	r := newRollup(time.Unix(0, start).UTC(), width)
+	d := rdr{b: b[13:]}
+	r.Count, r.Valid, r.NotOK = int(d.uvarint()), int(d.uvarint()), int(d.uvarint())
+	if r.Count == 0 || r.Valid > r.Count || r.NotOK > r.Count-r.Valid {
+		return r, errRollup("counts")
+	}
+	r.sum, r.comp = math.Float64frombits(d.u64()), math.Float64frombits(d.u64())
+	var ps [6]*Point
+	slots := r.slotsTo(ps[:0])
+	if int(d.byte()) != len(slots) {
+		return r, errRollup("slot count")
+	}
+	for _, p := range slots {
+		off := d.uvarint()
+		if off >= uint64(width) {
+			return r, errRollup("slot time")
+		}
+		*p = Point{At: time.Unix(0, start+int64(off)).UTC(), Raw: math.Float64frombits(d.u64()),
+			Value: math.Float64frombits(d.u64()), Quality: d.byte(), Calibration: uint32(d.uvarint())}
+	}
+	if d.err || len(d.b) != 0 {
+		return r, errRollup("length")
+	}
+	if r.Valid > 0 {
+		r.Min, r.Max = r.MinPoint.Value, r.MaxPoint.Value
+	}
+	return r, nil
+}
