@@ -146,18 +146,19 @@ func fuzz(w io.Writer, tg target, each time.Duration, parallel int) bool {
 	return false
 }
 
-// execs is the last progress line's count of executions, when go test gave one.
+// execs is go test's last progress line (elapsed time, executions and
+// their rate), when it gave one.
 func execs(out string) string {
 	last := ""
 	for line := range strings.Lines(out) {
-		if i := strings.Index(line, "execs: "); i >= 0 && strings.Contains(line, "fuzz: elapsed") {
-			last = line[i:]
+		if _, rest, ok := strings.Cut(line, "fuzz: elapsed: "); ok && strings.Contains(rest, "execs: ") {
+			last = strings.TrimSpace(rest)
 		}
 	}
-	if f := strings.Fields(last); len(f) >= 2 {
-		return ", " + f[1] + " execs"
+	if last == "" {
+		return ""
 	}
-	return ""
+	return " (fuzzing " + last + ")"
 }
 
 func indent(s string) string {
