@@ -32,7 +32,8 @@ func (d *Daemon) handler() http.Handler {
 	d.seriesRoutes(mux)
 	d.reportRoutes(mux)
 	d.bakeRoutes(mux)
-	return mux
+	mux.HandleFunc("POST "+reloadPath, d.changes(d.apiReload))
+	return d.underLive(mux)
 }
 
 func (d *Daemon) healthz(w http.ResponseWriter, _ *http.Request) {
