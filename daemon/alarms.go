@@ -52,6 +52,7 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 	var lastHealth time.Time
 	for {
 		now := d.clock.Now()
+		d.liveMu.RLock() // a reload swaps the gauges and links between ticks
 		for _, ev := range d.alarms.Tick(now) {
 			d.alarmEvent(log, ev)
 		}
@@ -65,6 +66,7 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 		}
 		d.holdTests(ctx, log, st, now)
 		d.runSchedules(log, scheds, now)
+		d.liveMu.RUnlock()
 		select {
 		case <-ctx.Done():
 			d.abortHoldTests(log, st, "the daemon was stopped during the test", true)

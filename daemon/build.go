@@ -57,7 +57,7 @@ func (d *Daemon) buildGauges() error {
 		}
 		if len(l.gauges) > 0 || len(errs) > 0 {
 			d.links = append(d.links, l) // on error, so that New closes it
-		} else if l.close != nil {
+		} else if l.close != nil && d.reuse[name] == nil { // a reload closes a kept link once it is unused
 			errs = append(errs, l.close())
 		}
 	}
@@ -65,6 +65,9 @@ func (d *Daemon) buildGauges() error {
 }
 
 func (d *Daemon) buildLink(name string, lc *config.LinkConfig) (*link, error) {
+	if l := d.reuseLink(name); l != nil {
+		return l, nil // a reload keeps the running connection
+	}
 	l := &link{name: name}
 	switch {
 	case lc.Simulator != nil:
@@ -124,7 +127,7 @@ func (d *Daemon) buildGauge(name string, gc *config.GaugeConfig, l *link) (*gaug
 		if l.sim == nil {
 			return nil, errors.New("driver sim needs a simulator link")
 		}
-		in, err := l.sim.Instrument(simInstrument(name, gc))
+		in, err := d.simInstrument(l, name, gc)
 		if err != nil {
 			return nil, err
 		}
@@ -144,7 +147,9 @@ func (d *Daemon) buildGauge(name string, gc *config.GaugeConfig, l *link) (*gaug
 			return nil, err
 		}
 		opts.Now, opts.Log, opts.Trace = d.clock.Now, d.log.With("gauge", name), d.trace
-		if gc.Driver == "modbus" {
+		if og := d.prev[name]; og != nil {
+			g.drv = og.drv // a reload keeps the driver of an unchanged gauge
+		} else if gc.Driver == "modbus" {
 			g.drv, err = drivers.NewModbus(l.modbus, opts)
 		} else {
 			g.drv, err = drivers.New(gc.Driver, l.stream, opts)
@@ -263,6 +268,17 @@ func SimChamber(cfg *config.Config, link string, now func() time.Time) (*sim.Cha
 		ins[name] = in
 	}
 	return ch, ins, nil
+}
+
+// simInstrument is gauge name's simulated instrument on l: on a reload the
+// running one, when the gauge did not change.
+func (d *Daemon) simInstrument(l *link, name string, gc *config.GaugeConfig) (*sim.Instrument, error) {
+	if og := d.prev[name]; og != nil {
+		if in, ok := og.drv.(*sim.Instrument); ok {
+			return in, nil
+		}
+	}
+	return l.sim.Instrument(simInstrument(name, gc))
 }
 
 func simInstrument(name string, gc *config.GaugeConfig) sim.InstrumentConfig {

@@ -77,6 +77,16 @@ type Daemon struct {
 
 	flushMu  sync.Mutex
 	flushErr error
+
+	// Reload (reload.go): Run swaps cfg, links and gauges under liveMu,
+	// which HTTP handlers and the alarm, report and systemd loops hold
+	// while they read them; pollers are stopped across the swap.
+	file     string // the config file, read again by Reload
+	reloads  chan reloadRequest
+	reloadOK *reloadStatus
+	liveMu   sync.RWMutex
+	reuse    map[string]*link  // while building a reloaded config: the running links it keeps
+	prev     map[string]*gauge // and the running gauges whose drivers it keeps
 }
 
 // StorePath is the bbolt file inside a data directory.
@@ -85,7 +95,8 @@ func StorePath(dir string) string { return filepath.Join(dir, "holdfast.db") }
 // New builds a daemon: it opens the store and the links' drivers and binds
 // the HTTP listener, so that every startup problem is reported before Run.
 func New(cfg *config.Config, opt Options) (_ *Daemon, err error) {
-	d := &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, alarmsReady: make(chan struct{})}
+	d := &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, alarmsReady: make(chan struct{}),
+		file: cfg.File, reloads: make(chan reloadRequest), reloadOK: &reloadStatus{ok: true, at: time.Now()}}
 	if d.log == nil {
 		d.log = slog.New(slog.DiscardHandler)
 	}
@@ -130,6 +141,7 @@ func New(cfg *config.Config, opt Options) (_ *Daemon, err error) {
 	}
 	d.met = newMetrics(d)
 	d.met.reg.MustRegister(d.repeats.shared.suppressed)
+	d.met.reg.MustRegister(reloadCollector{d.reloadOK})
 	if d.rw, err = newRemoteWriter(d); err != nil {
 		return nil, err
 	}
@@ -162,9 +174,7 @@ func (d *Daemon) Run(parent context.Context) error {
 	ctx, cancel := context.WithCancelCause(parent)
 	defer cancel(nil)
 	var wg sync.WaitGroup
-	for _, l := range d.links {
-		wg.Go(func() { d.pollLink(ctx, l) })
-	}
+	polling := d.startPollers(ctx)
 	var handlers sync.WaitGroup // requests in flight; the store outlives them
 	h := d.handler()
 	srv := d.server(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
@@ -186,7 +196,16 @@ func (d *Daemon) Run(parent context.Context) error {
 	wg.Go(func() { d.reportLoop(ctx) })
 	wg.Go(func() { d.rw.run(ctx) })
 	d.log.Info("daemon started", "chamber", d.cfg.Chamber.Name, "gauges", len(d.gauges), "listen", d.Addr())
-	<-ctx.Done()
+	for running := true; running; {
+		select {
+		case <-ctx.Done():
+			running = false
+		case req := <-d.reloads:
+			var r reloadResult
+			polling, r.changes, r.err = d.apply(ctx, polling, req.cfg)
+			req.reply <- r
+		}
+	}
 	shut, done := context.WithTimeout(context.Background(), 3*time.Second)
 	httpErr := srv.Shutdown(shut)
 	done()
@@ -195,6 +214,7 @@ func (d *Daemon) Run(parent context.Context) error {
 		_ = srv.Close()
 	}
 	wg.Wait()
+	polling.wg.Wait()
 	handlers.Wait() // a reprocess or hold-test request finishes before the store closes
 	err := context.Cause(ctx)
 	if parent.Err() != nil {

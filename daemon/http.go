@@ -33,7 +33,8 @@ func (d *Daemon) handler() http.Handler {
 	d.seriesRoutes(mux)
 	d.reportRoutes(mux)
 	d.bakeRoutes(mux)
-	return d.limitBody(mux)
+	mux.HandleFunc("POST "+reloadPath, d.changes(d.apiReload))
+	return d.limitBody(d.underLive(mux))
 }
 
 // limitBody caps every request body at http.max_body_bytes with 413: a

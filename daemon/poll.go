@@ -51,6 +51,8 @@ type gauge struct {
 	up       bool
 	misses   int
 	slack    time.Duration // simulated time a poll may take beyond its timeout (the wall floor on a fast clock); see pollSlack
+
+	next time.Time // the next poll, left by a poller stopped for a reload; written and read with no poller running
 }
 
 type gaugeView struct {
@@ -70,9 +72,19 @@ func (g *gauge) view(now time.Time) gaugeView {
 }
 
 // pollLink owns l: it polls l's gauges one at a time, each on its interval,
-// until ctx is done, then closes l.
-func (d *Daemon) pollLink(ctx context.Context, l *link) {
+// until ctx is done, then closes l. When stop closes first (a reload), it
+// returns between polls with l open for the next config's poller, and
+// leaves each gauge's next poll time in the gauge.
+func (d *Daemon) pollLink(ctx context.Context, stop <-chan struct{}, l *link) {
+	next := make([]time.Time, len(l.gauges))
+	handover := false
 	defer func() {
+		if handover {
+			for i, g := range l.gauges {
+				g.next = next[i]
+			}
+			return
+		}
 		if l.close != nil {
 			if err := l.close(); err != nil {
 				d.log.Warn("closing link", "link", l.name, "err", err)
@@ -80,10 +92,12 @@ func (d *Daemon) pollLink(ctx context.Context, l *link) {
 		}
 	}()
 	log := d.log.With("link", l.name)
-	next := make([]time.Time, len(l.gauges))
 	now := d.clock.Now()
-	for i := range next {
+	for i, g := range l.gauges {
 		next[i] = now
+		if !g.next.IsZero() {
+			next[i] = g.next // the same schedule as under the config before a reload
+		}
 	}
 	for {
 		i := earliest(next)
@@ -91,11 +105,20 @@ func (d *Daemon) pollLink(ctx context.Context, l *link) {
 			select {
 			case <-ctx.Done():
 				return
+			case <-stop:
+				handover = true
+				return
 			case <-d.clock.After(wait):
 			}
 		}
 		if ctx.Err() != nil {
 			return
+		}
+		select {
+		case <-stop:
+			handover = true
+			return
+		default:
 		}
 		g := l.gauges[i]
 		d.poll(ctx, log, g)

@@ -67,7 +67,7 @@ func TestPollLinkSchedule(t *testing.T) {
 		d := testDaemon(t, gf, gs)
 		ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second-time.Millisecond)
 		defer cancel()
-		d.pollLink(ctx, &link{name: "bus", gauges: []*gauge{gf, gs}})
+		d.pollLink(ctx, nil, &link{name: "bus", gauges: []*gauge{gf, gs}})
 		if overlap.Load() {
 			t.Error("two polls on one link overlapped")
 		}
@@ -97,7 +97,7 @@ func TestPollLinkSkipsWhenBehind(t *testing.T) {
 		d := testDaemon(t, g)
 		ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second-time.Millisecond)
 		defer cancel()
-		d.pollLink(ctx, &link{name: "bus", gauges: []*gauge{g}})
+		d.pollLink(ctx, nil, &link{name: "bus", gauges: []*gauge{g}})
 		// Polls start at 0, 3, 6, 9 s (each takes 2.5 s; the next free 1 s slot follows).
 		if got := len(drv.calls); got != 4 {
 			t.Errorf("polled %d times in 10 s, want 4", got)
@@ -130,7 +130,7 @@ func TestGaugeDownAfterMisses(t *testing.T) {
 		}
 		ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
 		defer cancel()
-		d.pollLink(ctx, &link{name: "bus", gauges: []*gauge{g}})
+		d.pollLink(ctx, nil, &link{name: "bus", gauges: []*gauge{g}})
 		if len(downs) != 1 {
 			t.Fatalf("got %d gauge-down events, want 1", len(downs))
 		}

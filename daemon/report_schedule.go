@@ -34,7 +34,10 @@ func (d *Daemon) reportLoop(ctx context.Context) {
 			return
 		case <-d.clock.After(next.Sub(d.clock.Now())):
 		}
-		if path, err := d.scheduledReport(next, rc); err != nil {
+		d.liveMu.RLock()
+		path, err := d.scheduledReport(next, rc)
+		d.liveMu.RUnlock()
+		if err != nil {
 			log.Error("scheduled report not written", "err", err)
 		} else {
 			log.Info("report written", "path", path)

@@ -94,7 +94,10 @@ func (d *Daemon) systemdLoop(ctx context.Context) {
 			if ns := d.progress.last.Load(); ns != 0 {
 				last = time.Unix(0, ns)
 			}
-			if len(d.links) == 0 || now.Sub(last) <= overdue {
+			d.liveMu.RLock()
+			idle := len(d.links) == 0
+			d.liveMu.RUnlock()
+			if idle || now.Sub(last) <= overdue {
 				sdNotify("WATCHDOG=1")
 			} else {
 				d.log.Error("no poll completed for longer than any gauge's interval; systemd will restart the daemon",

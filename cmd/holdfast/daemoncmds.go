@@ -7,6 +7,10 @@ import (
 	"io"
 	"log"
 	"log/slog"
+	"os"
+	"os/signal"
+	"sync"
+	"syscall"
 
 	"holdfast/daemon"
 	"holdfast/daemon/config"
@@ -38,7 +42,28 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	if err != nil {
 		return err
 	}
-	return d.Run(ctx)
+	hup := make(chan os.Signal, 1)
+	signal.Notify(hup, syscall.SIGHUP)
+	defer signal.Stop(hup)
+	hctx, stopHup := context.WithCancel(ctx)
+	var wg sync.WaitGroup
+	wg.Go(func() { reloadOnHangup(hctx, d, hup) })
+	err = d.Run(ctx)
+	stopHup()
+	wg.Wait()
+	return err
+}
+
+// reloadOnHangup reloads the config on every SIGHUP until ctx is done.
+func reloadOnHangup(ctx context.Context, d *daemon.Daemon, hup <-chan os.Signal) {
+	for {
+		select {
+		case <-ctx.Done():
+			return
+		case <-hup:
+			_, _ = d.Reload(ctx) // logged by the daemon, with every problem and its line
+		}
+	}
 }
 
 func cmdCheck(ctx context.Context, args []string, stdout, stderr io.Writer) error {

@@ -51,6 +51,7 @@ var commands = map[string]command{
 	"demo":        {"run the daemon on the built-in simulated chamber", cmdDemo},
 	"run":         {"run the daemon with a config file", cmdRun},
 	"check":       {"check a config file and report every problem", cmdCheck},
+	"reload":      {"make the running daemon read its config again and apply it", cmdReload},
 	"convert":     {"convert a quantity between units", cmdConvert},
 	"version":     {"print the version", cmdVersion},
 	"leak":        {"analyse a recorded pressure rise: leak rate, outgassing", cmdLeak},

@@ -16,9 +16,9 @@ import (
 
 // A Problem is one thing wrong with a config file.
 type Problem struct {
-	Line int    // 1-based; nearest enclosing key when the key is absent
-	Path string // gauges.foreline.interval
-	Msg  string // what is wrong and what is expected
+	Line int    `json:"line"` // 1-based; nearest enclosing key when the key is absent
+	Path string `json:"path"` // gauges.foreline.interval
+	Msg  string `json:"msg"`  // what is wrong and what is expected
 }
 
 // ConfigError lists every problem found in one config file.

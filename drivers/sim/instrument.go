@@ -209,3 +209,12 @@ func newSensor(ic InstrumentConfig) (sensor, calib.Transfer, error) {
 	}
 	return s, xfer, nil
 }
+
+// Release frees name for a new instrument: a daemon that reloads its
+// config builds a changed gauge's instrument again on the same chamber.
+// The released instrument keeps reading the chamber until dropped.
+func (ch *Chamber) Release(name string) {
+	ch.mu.Lock()
+	defer ch.mu.Unlock()
+	ch.names = slices.DeleteFunc(ch.names, func(n string) bool { return n == name })
+}
