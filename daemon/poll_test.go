@@ -161,3 +161,24 @@ func TestRetentionDeletesOldSamples(t *testing.T) {
 		t.Errorf("%d samples left of 3000 after deleting those before 40 h; want between %d and 2999", n, 3000-40*60)
 	}
 }
+
+// Roll-up retention deletes a tier's old roll-ups and leaves the samples
+// and the other tier alone.
+func TestRollupRetentionDeletesOldRollups(t *testing.T) {
+	g := fakeGauge("p", time.Second, nil)
+	d := testDaemon(t, g)
+	old := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
+	for i := range 3 * 60 { // three hours, one sample a minute
+		d.store.Append("p", store.Point{At: old.Add(time.Duration(i) * time.Minute), Raw: 1, Value: 1})
+	}
+	if err := d.store.Flush(); err != nil {
+		t.Fatal(err)
+	}
+	d.applyRollupRetention(store.TierMinute, old.Add(2*time.Hour)) // the first two hours of minutes go
+	mins, _ := d.store.Rollups("p", store.TierMinute, old, old.Add(24*time.Hour))
+	hours, _ := d.store.Rollups("p", store.TierHour, old, old.Add(24*time.Hour))
+	n, _ := d.store.Count("p")
+	if len(mins) != 60 || len(hours) != 3 || n != 180 {
+		t.Errorf("%d minute roll-ups, %d hour roll-ups, %d samples left; want 60, 3 and 180", len(mins), len(hours), n)
+	}
+}

@@ -47,6 +47,8 @@ func BenchmarkNight(b *testing.B) {
 			b.ReportMetric(float64(n)/float64(len(data[name])), name+"-B/sample")
 		}
 		b.ReportMetric(float64(total)/float64(3*len(data["foreline"])), "chunks-B/sample")
+		b.ReportMetric(float64(rollupBytes(b, db, TierMinute))/float64(3*len(data["foreline"])), "minute-B/sample")
+		b.ReportMetric(float64(rollupBytes(b, db, TierHour))/float64(3*len(data["foreline"])), "hour-B/sample")
 		dst := filepath.Join(b.TempDir(), "compact.db")
 		if err := db.Compact(dst); err != nil {
 			b.Fatal(err)
