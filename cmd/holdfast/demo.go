@@ -33,6 +33,7 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	listen := fs.String("listen", config.DefaultListen, "HTTP `address` for /metrics and the API")
 	data := fs.String("data", "", "data `directory` (default: a fresh temporary directory, removed at exit)")
 	keep := fs.Bool("keep", false, "keep the temporary data directory at exit")
+	fresh := fs.Bool("fresh", false, "with --data: delete the store an earlier demo left there and start over")
 	file := fs.String("config", "", "run another simulated scenario from this config `file` instead of the built-in one")
 	level := fs.String("log-level", "warn", "log `level` for the daemon's log on stderr")
 	if err := fs.Parse(args); err != nil {
@@ -41,6 +42,12 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	if fs.NArg() > 0 {
 		fs.Usage()
 		return errUsage("demo takes no arguments, got %q", fs.Args())
+	}
+	if *dur < 0 {
+		return errUsage("--for must be a positive duration such as 25s (or left out: until interrupted), got %s", *dur)
+	}
+	if *fresh && *data == "" {
+		return errUsage("--fresh goes with --data DIR (the default directory is always fresh)")
 	}
 	if !(*speed > 0) || *speed > 1e5 {
 		return errUsage("--speed must be above 0 and at most 100000 simulated seconds per wall second, got %g", *speed)
@@ -56,6 +63,11 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	dir, cleanup, err := demoDataDir(*data, *keep, stdout)
 	if err != nil {
 		return err
+	}
+	if *data != "" {
+		if err := demoFresh(dir, *fresh, stdout); err != nil {
+			return err
+		}
 	}
 	defer cleanup()
 	cfg.Store.Dir, cfg.HTTP.Listen = dir, *listen
