@@ -1,6 +1,7 @@
 package config
 
 import (
+	"path/filepath"
 	"reflect"
 	"strings"
 	"testing"
@@ -95,4 +96,23 @@ func mustParse(t *testing.T, text string) *Config {
 		t.Fatalf("%v\nin:\n%s", err, text)
 	}
 	return cfg
+}
+
+// Every shipped example, loaded twice, has no changes: nothing the checker
+// derives (secrets, resolved limits, compiled values) differs between loads.
+func TestDiffExamplesSelf(t *testing.T) {
+	files, err := filepath.Glob(filepath.Join("..", "..", "deploy", "examples", "*.yaml"))
+	if err != nil || len(files) == 0 {
+		t.Fatalf("no examples: %v", err)
+	}
+	for _, f := range files {
+		a, errA := LoadConfig(f)
+		b, errB := LoadConfig(f)
+		if errA != nil || errB != nil {
+			continue // TestExamplesAreValid reports it
+		}
+		if c := Diff(a, b); !c.Empty() {
+			t.Errorf("%s against itself:\n%s", f, c)
+		}
+	}
 }
