@@ -7,29 +7,12 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
-	"sync"
 	"syscall"
 	"testing"
 	"time"
 )
 
-// syncBuffer is a bytes.Buffer safe for the daemon's logger and the test.
-type syncBuffer struct {
-	mu sync.Mutex
-	b  bytes.Buffer
-}
-
-func (s *syncBuffer) Write(p []byte) (int, error) {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.Write(p)
-}
-
-func (s *syncBuffer) String() string {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.String()
-}
+// syncBuffer (identify_test.go) collects the daemon's log.
 
 const hupConfig = `chamber: {name: hup, volume: 30 L}
 http: {listen: "ADDR", token_file: DIR/token}
