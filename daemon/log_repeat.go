@@ -53,7 +53,9 @@ func newRepeatHandler(next slog.Handler, now func() time.Time) *repeatHandler {
 		})}}
 }
 
-func (h *repeatHandler) Enabled(ctx context.Context, l slog.Level) bool { return h.next.Enabled(ctx, l) }
+func (h *repeatHandler) Enabled(ctx context.Context, l slog.Level) bool {
+	return h.next.Enabled(ctx, l)
+}
 
 func (h *repeatHandler) WithAttrs(as []slog.Attr) slog.Handler {
 	var b strings.Builder
