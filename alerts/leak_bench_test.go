@@ -27,3 +27,24 @@ func BenchmarkAnalyzeRiseDay(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkAnalyzeRiseFuzzSeeds analyses FuzzAnalyzeRise's seeds from the
+// fixtures (each fixture's first fuzzRisePoints readings, on the fuzz
+// record's lattice): what one fuzz execution costs, before the fuzzer's
+// coverage counters.
+func BenchmarkAnalyzeRiseFuzzSeeds(b *testing.B) {
+	var recs [][2][]float64
+	for _, spec := range riseSpecs {
+		tt, p := spec.generate()
+		n := min(len(tt), fuzzRisePoints)
+		t2, p2 := decodeFuzzRecord(latticeRecord(tt[:n], p[:n]))
+		recs = append(recs, [2][]float64{t2, p2})
+	}
+	b.ReportAllocs()
+	i := 0
+	for b.Loop() {
+		r := recs[i%len(recs)]
+		AnalyzeRise(r[0], r[1], fixtureVolume, RiseOptions{})
+		i++
+	}
+}

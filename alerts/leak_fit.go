@@ -132,7 +132,7 @@ func (d *design) evaluate(cols [][]float64, coef []float64) float64 {
 // it pull with the constant force c·sign(r_i)/s_i. When too few points are
 // within for that to be solvable, irls weights the others by the Huber
 // weight c·s_i/|r_i| instead (an IRLS step). One pass over the data builds
-// the normal equations; gonum's Cholesky solves them.
+// the normal equations; solveSPD solves them.
 func (d *design) newtonStep(cols [][]float64, coef []float64, irls bool) bool {
 	k := len(cols)
 	var a [4][4]float64
@@ -162,18 +162,77 @@ func (d *design) newtonStep(cols [][]float64, coef []float64, irls bool) bool {
 			b[j] += f * x[j]
 		}
 	}
-	am := mat.NewSymDense(k, nil)
-	bv := mat.NewVecDense(k, b[:k])
+	return solveSPD(&a, &b, k, coef)
+}
+
+// conditionLimit is the largest 1-norm condition number solveSPD accepts:
+// gonum's mat.ConditionTolerance, the limit its Cholesky solve (which this
+// replaced in the Huber steps) applied.
+const conditionLimit = 1e16
+
+// solveSPD solves a·x = b for the k×k (k ≤ 4) symmetric matrix whose upper
+// triangle a holds, by Cholesky factorisation a = L·Lᵀ, into x. It is false
+// when a is not positive definite or is too ill-conditioned to trust
+// (conditionLimit; the condition number is computed exactly from the
+// inverse, which costs nothing at this size). Written out for these small
+// systems because gonum's general Cholesky, with its condition estimate and
+// allocations, was most of the cost of a rise analysis: the Huber steps
+// solve thousands of 2×2 and 3×3 systems per record.
+func solveSPD(a *[4][4]float64, b *[4]float64, k int, x []float64) bool {
+	var l [4][4]float64
 	for j := range k {
-		for l := j; l < k; l++ {
-			am.SetSym(j, l, a[j][l])
+		sum := a[j][j]
+		for m := range j {
+			sum -= l[j][m] * l[j][m]
+		}
+		if !(sum > 0) || math.IsInf(sum, 0) {
+			return false // not positive definite (or not finite)
+		}
+		l[j][j] = math.Sqrt(sum)
+		for i := j + 1; i < k; i++ {
+			v := a[j][i] // a is stored as its upper triangle: a[j][i], j < i
+			for m := range j {
+				v -= l[i][m] * l[j][m]
+			}
+			l[i][j] = v / l[j][j]
 		}
 	}
-	var ch mat.Cholesky
-	if !ch.Factorize(am) {
+	solve := func(rhs *[4]float64, out *[4]float64) {
+		var y [4]float64
+		for i := range k { // L·y = rhs
+			v := rhs[i]
+			for m := range i {
+				v -= l[i][m] * y[m]
+			}
+			y[i] = v / l[i][i]
+		}
+		for i := k - 1; i >= 0; i-- { // Lᵀ·out = y
+			v := y[i]
+			for m := i + 1; m < k; m++ {
+				v -= l[m][i] * out[m]
+			}
+			out[i] = v / l[i][i]
+		}
+	}
+	normA, normInv := 0.0, 0.0
+	for j := range k {
+		var e, col [4]float64
+		e[j] = 1
+		solve(&e, &col)
+		sa, si := 0.0, 0.0
+		for i := range k {
+			sa += math.Abs(a[min(i, j)][max(i, j)])
+			si += math.Abs(col[i])
+		}
+		normA, normInv = max(normA, sa), max(normInv, si)
+	}
+	if !(normA*normInv <= conditionLimit) {
 		return false
 	}
-	return ch.SolveVecTo(mat.NewVecDense(k, coef), bv) == nil
+	var out [4]float64
+	solve(b, &out)
+	copy(x, out[:k])
+	return true
 }
 
 // solveNoise sets the noise beyond quantisation so that the standardised

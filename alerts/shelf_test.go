@@ -60,3 +60,36 @@ func TestStoredForeverShelfEnds(t *testing.T) {
 		t.Errorf("24 h after a shelf stored without an end: %v, want unshelved", kinds(evs))
 	}
 }
+
+// refusingStore refuses every save, as a full disk does.
+type refusingStore struct{ savedStore }
+
+func (s *refusingStore) Save([]Saved, []Event) error { return errors.New("no space left on device (injected)") }
+
+// An operator action whose transition cannot be stored is done, says so
+// (ErrNotStored, for the API to answer 503 and not notify), and its
+// transition comes from the first step that stores it, once.
+func TestActionNotStoredWaits(t *testing.T) {
+	e := NewEngine([]*Alarm{limitAlarm(0, 0, 0)})
+	st := &refusingStore{}
+	if _, err := e.Attach(st); err != nil {
+		t.Fatal(err)
+	}
+	_, err := e.Shelve(Action{Alarm: "rough-lost", Reason: "pump swap", Until: t0.Add(time.Hour), At: t0})
+	if !errors.Is(err, ErrNotStored) {
+		t.Fatalf("shelve while saves fail: %v, want ErrNotStored", err)
+	}
+	if evs := e.Tick(t0.Add(time.Second)); len(evs) != 0 {
+		t.Errorf("still failing: handed over %v", kinds(evs))
+	}
+	e.mu.Lock()
+	e.store = &st.savedStore // writes work again
+	e.mu.Unlock()
+	evs := e.Tick(t0.Add(2 * time.Second))
+	if len(evs) != 1 || evs[0].Kind != ShelvedEv {
+		t.Errorf("once stored: %v, want the shelving once", kinds(evs))
+	}
+	if evs := e.Tick(t0.Add(3 * time.Second)); len(evs) != 0 {
+		t.Errorf("again: %v, want nothing", kinds(evs))
+	}
+}

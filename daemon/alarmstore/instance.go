@@ -43,10 +43,10 @@ func openInstance(tx *bolt.Tx) (id, renewed string, err error) {
 	file := fileID(tx.DB().Path())
 	id = string(b.Get(keyInstance))
 	switch {
-	case id == "":
-		renewed = "new file"
 	case b.Get(keyCopy) != nil:
 		renewed = "marked backup"
+	case id == "":
+		renewed = "new file"
 	case file != "" && string(b.Get(keyFileID)) != file:
 		renewed = "copied or restored file"
 	default:
