@@ -35,7 +35,9 @@ func (d *Daemon) notify(ev alerts.Event) error {
 // Alertmanagers, and sends reminders, until ctx is done. It returns once
 // every send in flight has been cut short.
 func (d *Daemon) notifyLoop(ctx context.Context) {
+	d.liveMu.RLock() // notifiers read d.cfg, which a reload swaps
 	n := d.notifiers()
+	d.liveMu.RUnlock()
 	if n == nil {
 		<-ctx.Done()
 		return

@@ -212,6 +212,11 @@ func reloadMetric(t *testing.T, d *Daemon) (ok, at string) {
 func TestReloadNoGap(t *testing.T) {
 	d, path := reloadDaemon(t, 5)
 	waitFor(t, 10*time.Second, "samples", func() bool { return storedCount(t, d, "pirani") > 4 })
+	var from time.Time // the last sample before the reloads; the daemon's start may stall on a loaded machine
+	d.store.Range("pirani", time.Time{}, time.Now().Add(24*time.Hour*365), func(p store.Point) bool {
+		from = p.At
+		return true
+	})
 	for i, edit := range []string{
 		strings.Replace(reloadBase, "interval: 1s}\n", "interval: 1s}\n  ion: {link: bench, driver: sim, instrument: ion, kind: pressure}\n", 1),
 		strings.Replace(reloadBase, "cdg, full_scale: 133 kPa, kind: pressure, interval: 1s", "cdg, full_scale: 133 kPa, kind: pressure, interval: 2s", 1),
@@ -230,7 +235,7 @@ func TestReloadNoGap(t *testing.T) {
 	// schedule started again at the reload puts two samples in one.
 	var first time.Time
 	k := 0
-	d.store.Range("pirani", time.Time{}, time.Now().Add(24*time.Hour*365), func(p store.Point) bool {
+	d.store.Range("pirani", from, time.Now().Add(24*time.Hour*365), func(p store.Point) bool {
 		if first.IsZero() {
 			first = p.At
 		}
@@ -241,7 +246,7 @@ func TestReloadNoGap(t *testing.T) {
 		k++
 		return true
 	})
-	if k < 14 {
-		t.Errorf("%d samples of pirani; want at least 14", k)
+	if k < 10 {
+		t.Errorf("%d samples of pirani after the first reload; want at least 10", k)
 	}
 }

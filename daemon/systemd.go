@@ -69,7 +69,10 @@ func (d *Daemon) longestPeriod() time.Duration {
 // systemdLoop tells systemd the daemon is ready, feeds its watchdog while
 // polls complete, and says it is stopping when ctx is done.
 func (d *Daemon) systemdLoop(ctx context.Context) {
-	if err := sdNotify("READY=1\nSTATUS=polling " + strconv.Itoa(len(d.gauges)) + " gauges"); err != nil {
+	d.liveMu.RLock()
+	n, longest := len(d.gauges), d.longestPeriod() // the config at the start; a reload keeps the watchdog's bound
+	d.liveMu.RUnlock()
+	if err := sdNotify("READY=1\nSTATUS=polling " + strconv.Itoa(n) + " gauges"); err != nil {
 		d.log.Warn("cannot notify systemd", "err", err)
 	}
 	defer sdNotify("STOPPING=1")
@@ -83,7 +86,7 @@ func (d *Daemon) systemdLoop(ctx context.Context) {
 	// Overdue means no poll completed for longer than the slowest gauge's
 	// interval and timeout (and half a watchdog period of slack): a hung
 	// poller, not a config with slow gauges.
-	overdue := d.longestPeriod() + iv/2
+	overdue := longest + iv/2
 	start := time.Now()
 	for {
 		select {
