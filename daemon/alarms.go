@@ -50,12 +50,14 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 	close(d.alarmsReady)
 	scheds := d.holdSchedules(d.clock.Now())
 	var lastHealth time.Time
+	var saveErr error
 	for {
 		now := d.clock.Now()
 		d.liveMu.RLock() // a reload swaps the gauges and links between ticks
 		for _, ev := range d.alarms.Tick(now) {
 			d.alarmEvent(log, ev)
 		}
+		saveErr = logSaveState(log, saveErr, d.alarms.StoreError())
 		if now.Sub(lastHealth) >= healthEvery {
 			lastHealth = now
 			d.observeHealth(log, now)
@@ -74,6 +76,19 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 		case <-d.clock.After(alarmTick):
 		}
 	}
+}
+
+// logSaveState says once when alarm state stops being stored (transitions
+// then wait in the engine, unannounced) and once when it is stored again,
+// and returns now for the next call.
+func logSaveState(log *slog.Logger, was, now error) error {
+	switch {
+	case now != nil && was == nil:
+		log.Error("alarm state not stored; transitions wait in memory, in order, and are stored and notified once writes work", "err", now)
+	case now == nil && was != nil:
+		log.Info("alarm state stored again; the waiting transitions follow")
+	}
+	return now
 }
 
 // observeHealth feeds the daemon's own health to the health alarms.

@@ -14,6 +14,7 @@ import (
 	"github.com/prometheus/client_golang/exp/api/remote"
 	"github.com/prometheus/client_golang/prometheus"
 
+	"holdfast/alerts/notify"
 	"holdfast/daemon/config"
 	"holdfast/daemon/seriesio"
 	"holdfast/daemon/store"
@@ -154,7 +155,7 @@ func (w *remoteWriter) run(ctx context.Context) {
 			wait = min(ra.RetryAfter(), w.cfg.Retry.Max.D())
 		}
 		if !failing {
-			w.log.Warn("remote write failing; stored samples will be sent when the receiver is back", "url", w.reader, "err", err)
+			w.log.Warn("remote write failing; stored samples will be sent when the receiver is back", "url", notify.RedactURL(w.reader), "err", err)
 		} else {
 			w.log.Debug("remote write still failing", "err", err, "retry_seconds", wait.Seconds())
 		}

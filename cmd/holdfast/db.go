@@ -195,7 +195,9 @@ While a daemon runs the copy is taken hot, through its API (POST
 the copy is the file as of one moment. With --data DIR and no daemon
 holding it, the file is copied directly from a read-only open (said on
 stderr). The copy is itself a store: holdfast db stats --data on a
-directory holding it as holdfast.db reads it.`
+directory holding it as holdfast.db reads it. It is marked as a backup, so
+a daemon that runs on it once it is restored gives it a new instance id
+and reuses none of the original's dedupe keys.`
 
 func cmdDBBackup(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("db backup", backupSynopsis, stderr)
