@@ -64,7 +64,9 @@ func TestStoredForeverShelfEnds(t *testing.T) {
 // refusingStore refuses every save, as a full disk does.
 type refusingStore struct{ savedStore }
 
-func (s *refusingStore) Save([]Saved, []Event) error { return errors.New("no space left on device (injected)") }
+func (s *refusingStore) Save([]Saved, []Event) error {
+	return errors.New("no space left on device (injected)")
+}
 
 // An operator action whose transition cannot be stored is done, says so
 // (ErrNotStored, for the API to answer 503 and not notify), and its
