@@ -176,8 +176,31 @@ func (v *checker) common(path string, n *NotifyConfig) {
 func (v *checker) httpURL(path, raw string) {
 	u, err := url.Parse(raw)
 	if raw == "" || err != nil || (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
-		v.problem(path, "want an http:// or https:// URL such as https://alerts.example.internal/hook, got %q", raw)
+		v.problem(path, "want an http:// or https:// URL such as https://alerts.example.internal/hook, got %s", shownURL(raw))
 	}
+}
+
+// shownURL is raw as a config problem may print it: a notifier URL often
+// carries a secret (a ?token=, user:password@), which `holdfast check`
+// would otherwise print to a terminal or a CI log. Query values and
+// userinfo are masked; a URL that does not parse is described by its
+// parse error, never shown.
+func shownURL(raw string) string {
+	if raw == "" {
+		return "nothing"
+	}
+	u, err := url.Parse(raw)
+	if err != nil {
+		var ue *url.Error
+		if errors.As(err, &ue) {
+			err = ue.Err // the reason, without the URL
+		}
+		return "a URL that does not parse (" + err.Error() + ")"
+	}
+	if u.User == nil && u.RawQuery == "" {
+		return strconv.Quote(raw)
+	}
+	return strconv.Quote(notify.RedactURL(raw)) + " (secrets masked)"
 }
 
 func (v *checker) mail(path string, m *MailConfig) {

@@ -48,7 +48,7 @@ func (v *checker) remoteWrite(r *RemoteWriteConfig) {
 	const p = "remote_write"
 	u, err := url.Parse(r.URL)
 	v.expect(r.URL != "" && err == nil && (u.Scheme == "http" || u.Scheme == "https") && u.Host != "" && u.User == nil, p+".url",
-		"want the receiver's http:// or https:// write URL without credentials, such as https://metrics.example.internal/api/v1/write, got %q", r.URL)
+		"want the receiver's http:// or https:// write URL without credentials, such as https://metrics.example.internal/api/v1/write, got %s", shownURL(r.URL))
 	if r.Every == 0 {
 		r.Every = Duration(defaultRemoteEvery)
 	}
