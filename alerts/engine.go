@@ -39,6 +39,7 @@ type Engine struct {
 	saveErr  error
 	unsaved  map[string]Saved // states whose save failed, by alarm, newest
 	waiting  []Event          // transitions whose save failed, oldest first
+	dropped  uint64           // waiting transitions given up to keep the wait bounded
 	instance string           // the data file's instance id; prefixes dedupe keys
 	holdTest string           // id of the hold test running, if any; see ClaimHoldTest
 	shelf    ShelfLimits
@@ -144,7 +145,9 @@ func (e *Engine) Observe(gauge string, s calib.Sample) []Event {
 	for _, st := range e.byGauge[gauge] {
 		evs = st.apply(st.a.Rule.Observe(gauge, s, st.s.Active), s.At, evs)
 	}
-	return e.commit(evs)
+	// After a failed save only Tick (every second) and operator actions
+	// try again: a sample must not cost a write attempt on a full disk.
+	return e.commitOrWait(evs, e.saveErr == nil)
 }
 
 // Tick runs the time-driven part at now: rules that watch for silence,
@@ -170,6 +173,37 @@ func (e *Engine) Tick(now time.Time) []Event {
 	return e.commit(evs)
 }
 
+// commitOrWait is commit, or, when try is false, the same bookkeeping
+// without a save: the dirty states and the transitions join the wait.
+func (e *Engine) commitOrWait(evs []Event, try bool) []Event {
+	if try || e.store == nil {
+		return e.commit(evs)
+	}
+	e.collectDirty()
+	trans := e.waiting
+	for _, ev := range evs {
+		if ev.Transition() {
+			trans = append(trans, ev)
+		}
+	}
+	e.waiting = e.boundWaiting(trans)
+	return slices.DeleteFunc(evs, Event.Transition)
+}
+
+// collectDirty moves the states changed since the last save into unsaved.
+func (e *Engine) collectDirty() {
+	for _, st := range e.all {
+		if st.dirty {
+			if e.unsaved == nil {
+				e.unsaved = map[string]Saved{}
+			}
+			e.unsaved[st.a.Name] = st.s
+			st.s.Raises = slices.Clone(st.s.Raises)
+			st.dirty = false
+		}
+	}
+}
+
 // commit stores the dirty states and the transitions, after those whose
 // save failed before, and returns what the caller may act on: the
 // transitions that waited, oldest first, then evs. A transition is handed
@@ -185,16 +219,7 @@ func (e *Engine) commit(evs []Event) []Event {
 		}
 		return evs
 	}
-	for _, st := range e.all {
-		if st.dirty {
-			if e.unsaved == nil {
-				e.unsaved = map[string]Saved{}
-			}
-			e.unsaved[st.a.Name] = st.s
-			st.s.Raises = slices.Clone(st.s.Raises)
-			st.dirty = false
-		}
-	}
+	e.collectDirty()
 	trans := slices.Clone(e.waiting)
 	for _, ev := range evs {
 		if ev.Transition() {
@@ -211,12 +236,40 @@ func (e *Engine) commit(evs []Event) []Event {
 		}
 	}
 	if e.saveErr = e.store.Save(states, trans); e.saveErr != nil {
-		e.waiting = trans
+		e.waiting = e.boundWaiting(trans)
 		return slices.DeleteFunc(slices.Clone(evs), Event.Transition)
 	}
 	out := append(e.waiting, evs...)
 	e.unsaved, e.waiting = nil, nil
 	return out
+}
+
+// MaxWaiting bounds the transitions an engine holds while their save
+// fails: a chattering alarm on a full disk for a weekend must not grow the
+// daemon without end. Past it, the middle of the wait is given up: the
+// oldest MaxWaiting/2 (how the episode began) and the newest MaxWaiting/4
+// (where it stands) are kept, so that the next MaxWaiting/4 join without
+// copying; the alarms' states themselves are never dropped.
+const MaxWaiting = 4096
+
+// boundWaiting keeps trans within MaxWaiting, counting what it gives up.
+func (e *Engine) boundWaiting(trans []Event) []Event {
+	if len(trans) <= MaxWaiting {
+		return trans
+	}
+	head, tail := MaxWaiting/2, MaxWaiting/4
+	e.dropped += uint64(len(trans) - head - tail)
+	n := copy(trans[head:], trans[len(trans)-tail:])
+	clear(trans[head+n:]) // let the given-up events go
+	return trans[:head+n]
+}
+
+// DroppedTransitions returns how many transitions this engine gave up
+// because more than MaxWaiting waited for a save.
+func (e *Engine) DroppedTransitions() uint64 {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	return e.dropped
 }
 
 // Delivered marks transitions as handed to the notifiers, by dedupe key.

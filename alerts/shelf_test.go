@@ -95,3 +95,77 @@ func TestActionNotStoredWaits(t *testing.T) {
 		t.Errorf("again: %v, want nothing", kinds(evs))
 	}
 }
+
+// The wait for a save is bounded: a chattering alarm while the disk is
+// full gives up the middle of its transitions past MaxWaiting, keeps how
+// the episode began and where it stands, counts what it gave up, and
+// never reuses a sequence number for what it hands over afterwards.
+func TestWaitingTransitionsBounded(t *testing.T) {
+	chatter := func(e *Engine, n int) (transitions int) {
+		for i := range n {
+			v := 5.0
+			if i%2 == 1 {
+				v = 50
+			}
+			for _, ev := range e.Observe("chamber", pa(v, i)) {
+				if ev.Transition() {
+					transitions++
+				}
+			}
+		}
+		return transitions
+	}
+	// A twin with a working store says how many transitions the chatter makes.
+	twin := NewEngine([]*Alarm{limitAlarm(0, 0, 0)})
+	if _, err := twin.Attach(&savedStore{}); err != nil {
+		t.Fatal(err)
+	}
+	const crossings = 3 * MaxWaiting
+	total := chatter(twin, crossings)
+	if total <= MaxWaiting {
+		t.Fatalf("the chatter made only %d transitions; the test needs more than %d", total, MaxWaiting)
+	}
+
+	e := NewEngine([]*Alarm{limitAlarm(0, 0, 0)})
+	st := &refusingStore{}
+	if _, err := e.Attach(st); err != nil {
+		t.Fatal(err)
+	}
+	if n := chatter(e, crossings); n != 0 {
+		t.Fatalf("%d transitions handed over while saves fail", n)
+	}
+	e.mu.Lock()
+	waiting := len(e.waiting)
+	e.store = &st.savedStore // writes work again
+	e.mu.Unlock()
+	if waiting > MaxWaiting || waiting < MaxWaiting*3/4 {
+		t.Errorf("%d transitions held in memory, want 3/4 MaxWaiting to MaxWaiting (%d)", waiting, MaxWaiting)
+	}
+	if got, want := e.DroppedTransitions(), uint64(total-waiting); got != want {
+		t.Errorf("dropped %d, want %d (%d made, %d kept)", got, want, total, waiting)
+	}
+	evs := e.Tick(t0.Add(crossings * time.Second))
+	if len(evs) != waiting {
+		t.Fatalf("handed over %d once stored, want the %d kept", len(evs), waiting)
+	}
+	for i, ev := range evs[:MaxWaiting/2] {
+		if ev.Seq != uint64(i+1) {
+			t.Fatalf("kept transition %d has seq %d: the episode's beginning is not kept whole", i, ev.Seq)
+		}
+	}
+	if evs[0].Seq != 1 || evs[len(evs)-1].Seq != uint64(total) {
+		t.Errorf("kept seq %d … %d, want the first (1) and the newest (%d)", evs[0].Seq, evs[len(evs)-1].Seq, total)
+	}
+	for i := 1; i < len(evs); i++ {
+		if evs[i].Seq <= evs[i-1].Seq {
+			t.Fatalf("seq %d after %d: out of order", evs[i].Seq, evs[i-1].Seq)
+		}
+	}
+	after := e.Observe("chamber", pa(5, crossings+1))
+	after = append(after, e.Observe("chamber", pa(50, crossings+2))...)
+	for _, ev := range after {
+		if ev.Transition() && ev.Seq <= uint64(total) {
+			t.Errorf("a transition after the episode reuses seq %d", ev.Seq)
+		}
+	}
+}

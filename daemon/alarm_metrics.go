@@ -19,9 +19,12 @@ var (
 	descLeakRate = prometheus.NewDesc("holdfast_leak_rate_pascal_cubic_meters_per_second",
 		"Leak rate Q = V·dp/dt found by the last hold test on the gauge whose rise was leak-dominated or mixed: its leak term, never outgassing or an upper bound (1 Pa·m³/s = 10 mbar·L/s).",
 		[]string{"gauge"}, nil)
+	descAlarmDropped = prometheus.NewDesc("holdfast_alarm_transitions_dropped_total",
+		"Alarm transitions given up, never stored or notified, because more than the engine's bound waited while the alarm state could not be stored (the alarms' states are kept).",
+		nil, nil)
 )
 
-var alarmDescs = []*prometheus.Desc{descAlarmState, descAlarmRaised, descAlarmChattering, descLeakRate}
+var alarmDescs = []*prometheus.Desc{descAlarmState, descAlarmRaised, descAlarmChattering, descLeakRate, descAlarmDropped}
 
 // collectAlarms sends the alarm and hold-test metrics.
 func (d *Daemon) collectAlarms(ch chan<- prometheus.Metric) {
@@ -33,6 +36,7 @@ func (d *Daemon) collectAlarms(ch chan<- prometheus.Metric) {
 		ch <- prometheus.MustNewConstMetric(descAlarmRaised, prometheus.CounterValue, float64(a.Raised), a.Alarm, a.Gauge, sev)
 		ch <- prometheus.MustNewConstMetric(descAlarmChattering, prometheus.GaugeValue, b2f(a.Chattering), a.Alarm, a.Gauge, sev)
 	}
+	ch <- prometheus.MustNewConstMetric(descAlarmDropped, prometheus.CounterValue, float64(d.alarms.DroppedTransitions()))
 	hs, _ := d.recentHoldTests(50)
 	last := map[string]float64{}
 	for _, h := range hs {

@@ -51,6 +51,7 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 	scheds := d.holdSchedules(d.clock.Now())
 	var lastHealth time.Time
 	var saveErr error
+	var dropped uint64
 	for {
 		now := d.clock.Now()
 		d.liveMu.RLock() // a reload swaps the gauges and links between ticks
@@ -58,6 +59,11 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 			d.alarmEvent(log, ev)
 		}
 		saveErr = logSaveState(log, saveErr, d.alarms.StoreError())
+		if n := d.alarms.DroppedTransitions(); n > dropped {
+			log.Error("alarm transitions given up: too many waited to be stored; the alarms' states are kept",
+				"given_up", n-dropped, "given_up_total", n, "kept_at_most", alerts.MaxWaiting)
+			dropped = n
+		}
 		if now.Sub(lastHealth) >= healthEvery {
 			lastHealth = now
 			d.observeHealth(log, now)
