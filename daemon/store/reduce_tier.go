@@ -138,7 +138,7 @@ func coverTx(tx *bolt.Tx, dst []Rollup, bad []error, series string, t Tier, lo, 
 		return dst, bad, nil
 	}
 	if t == TierRaw {
-		pts, skipped := rawPoints(tx, series, lo, hi)
+		pts, _, skipped := rawPoints(tx, series, lo, hi)
 		return append(dst, ComputeRollups(pts, RollupMinute)...), append(bad, skipped...), nil
 	}
 	w := int64(t.Width())
@@ -156,11 +156,14 @@ func coverTx(tx *bolt.Tx, dst []Rollup, bad []error, series string, t Tier, lo, 
 	return coverTx(tx, dst, bad, series, t-1, b, hi, hz)
 }
 
-// rawPoints decodes series' stored points in [lo, hi) in tx.
-func rawPoints(tx *bolt.Tx, series string, lo, hi int64) ([]Point, []error) {
+// rawPoints decodes series' stored points in [lo, hi) in tx. It also
+// returns the start of the first chunk that starts at or after hi (the
+// largest time when there is none) and the unreadable chunks it skipped.
+func rawPoints(tx *bolt.Tx, series string, lo, hi int64) ([]Point, int64, []error) {
+	after := int64(1<<63 - 1)
 	s := tx.Bucket(bucketSeries).Bucket([]byte(series))
 	if s == nil {
-		return nil, nil
+		return nil, after, nil
 	}
 	var pts []Point
 	var bad []error
@@ -171,6 +174,7 @@ func rawPoints(tx *bolt.Tx, series string, lo, hi int64) ([]Point, []error) {
 			continue
 		}
 		if kt >= hi {
+			after = kt
 			break
 		}
 		got, err := decodeChunk(v)
@@ -184,7 +188,7 @@ func rawPoints(tx *bolt.Tx, series string, lo, hi int64) ([]Point, []error) {
 			}
 		}
 	}
-	return pts, bad
+	return pts, after, bad
 }
 
 // addBuffered folds points not yet flushed into the cover: each minute of

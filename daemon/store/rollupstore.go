@@ -425,33 +425,13 @@ func (db *DB) rebuildSpan(series string, a, b int64) (int64, []error, error) {
 // largest time) and the unreadable chunks it skipped.
 func rebuildTx(tx *bolt.Tx, series string, a, b int64) (int64, []error, error) {
 	next := int64(1<<63 - 1)
-	s := tx.Bucket(bucketSeries).Bucket([]byte(series))
-	if s == nil {
+	if tx.Bucket(bucketSeries).Bucket([]byte(series)) == nil {
 		return next, nil, nil
 	}
-	var bad []error
 	from := max(a, ceilNano(horizon(tx, series, TierRaw), int64(time.Minute)))
-	var pts []Point
-	c := s.Cursor()
-	for k, v := seekCovering(c, from); k != nil; k, v = c.Next() {
-		kt, ok := keyTime(k)
-		if !ok || v == nil {
-			continue
-		}
-		if kt >= b {
-			next = floorNano(kt, int64(time.Hour))
-			break
-		}
-		got, err := decodeChunk(v)
-		if err != nil {
-			bad = append(bad, &ChunkError{Series: series, Start: time.Unix(0, kt).UTC(), Err: err})
-			continue
-		}
-		for _, p := range got {
-			if n := p.At.UnixNano(); n >= from && n < b {
-				pts = append(pts, p)
-			}
-		}
+	pts, after, bad := rawPoints(tx, series, from, b)
+	if after != next {
+		next = floorNano(after, int64(time.Hour))
 	}
 	if from < b {
 		if err := replaceRollups(tx, series, TierMinute, from, b, ComputeRollups(pts, RollupMinute)); err != nil {
