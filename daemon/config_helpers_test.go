@@ -1,44 +1,23 @@
 package daemon
 
 import (
-	"os"
-	"path/filepath"
-	"strings"
 	"testing"
 
 	"holdfast/daemon/config"
+	"holdfast/daemon/config/configtest"
 )
-
-// notifyBase is a working config with no notifiers; tests append some.
-// (daemon/config's tests keep their own copy.)
-const notifyBase = `
-chamber: {name: bakeout-3, volume: 30 L}
-http: {listen: "127.0.0.1:0"}
-store: {dir: DIR}
-links:
-  bench:
-    simulator:
-      rough_pump: {speed: 5 m3/h, ultimate: 1 Pa}
-      seed: 1
-gauges:
-  pirani: {link: bench, driver: sim, instrument: pirani, kind: pressure, unit: mbar, interval: 1s}
-`
 
 // writeSecret writes a secret file of mode 0600 in dir and returns its path.
 func writeSecret(t *testing.T, dir, name, secret string) string {
 	t.Helper()
-	p := filepath.Join(dir, name)
-	if err := os.WriteFile(p, []byte(secret+"\n"), 0o600); err != nil {
-		t.Fatal(err)
-	}
-	return p
+	return configtest.WriteSecret(t, dir, name, secret)
 }
 
-// parseNotify parses notifyBase with notifyYAML appended, DIR replaced by dir.
+// parseNotify parses configtest.NotifyBase with notifyYAML appended, DIR
+// replaced by dir.
 func parseNotify(t *testing.T, dir, notifyYAML string) (*config.Config, error) {
 	t.Helper()
-	text := strings.ReplaceAll(notifyBase, "DIR", dir) + notifyYAML
-	return config.ParseConfig("notify.yaml", []byte(strings.ReplaceAll(text, "DIR", dir)))
+	return config.ParseConfig("notify.yaml", configtest.NotifyText(dir, notifyYAML))
 }
 
 // A rise watch with a while: switch is built to read the switch too.

@@ -16,6 +16,7 @@ import (
 
 	"holdfast/alerts"
 	"holdfast/daemon/config"
+	"holdfast/daemon/config/configtest"
 )
 
 const restartHelperEnv = "NOTIFY_RESTART_HELPER" // config path, phase
@@ -82,7 +83,7 @@ func TestNoResendAfterSIGKILL(t *testing.T) {
 	srv := httptest.NewServer(rc)
 	defer srv.Close()
 	cfgPath := filepath.Join(dir, "holdfast.yaml")
-	text := strings.ReplaceAll(notifyBase+`
+	text := strings.ReplaceAll(configtest.NotifyBase+`
 notify:
   - name: hook
     webhook: {url: "`+srv.URL+`/hook", secret_file: DIR/hook.key}

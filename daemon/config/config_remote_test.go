@@ -1,6 +1,7 @@
 package config
 
 import (
+	"holdfast/daemon/config/configtest"
 	"strconv"
 	"strings"
 	"testing"
@@ -9,7 +10,7 @@ import (
 // Every problem of a remote_write section is reported at once, each on
 // its own line of the file.
 func TestRemoteWriteConfigProblems(t *testing.T) {
-	text := strings.Replace(notifyBase, "DIR", t.TempDir(), 1) + `remote_write:
+	text := strings.Replace(configtest.NotifyBase, "DIR", t.TempDir(), 1) + `remote_write:
   url: ftp://central.example.internal/write
   every: 10ms
   batch: -5
@@ -21,7 +22,7 @@ func TestRemoteWriteConfigProblems(t *testing.T) {
 	if err == nil {
 		t.Fatal("ParseConfig succeeded; want problems")
 	}
-	base := strings.Count(notifyBase, "\n") + 1 // the line of remote_write:
+	base := strings.Count(configtest.NotifyBase, "\n") + 1 // the line of remote_write:
 	for _, want := range []string{
 		"rw.yaml:" + itoa(base+1) + ": remote_write.url: want the receiver's http:// or https:// write URL",
 		"rw.yaml:" + itoa(base+2) + ": remote_write.every: want at least 100ms",

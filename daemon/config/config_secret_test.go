@@ -1,6 +1,7 @@
 package config
 
 import (
+	"holdfast/daemon/config/configtest"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -30,7 +31,7 @@ func TestSecretCheckHelper(t *testing.T) {
 func hookConfig(t *testing.T, dir, notify string) string {
 	t.Helper()
 	p := filepath.Join(dir, "holdfast.yaml")
-	text := strings.ReplaceAll(notifyBase+notify, "DIR", dir)
+	text := strings.ReplaceAll(configtest.NotifyBase+notify, "DIR", dir)
 	if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
 		t.Fatal(err)
 	}
@@ -141,7 +142,7 @@ http: {listen: "127.0.0.1:0", token_credential: api-token}
 notify:
   - webhook: {url: "https://alerts.example.internal/hook", secret_credential: hook-key}
 `
-	text := strings.ReplaceAll(strings.Replace(notifyBase, `http: {listen: "127.0.0.1:0"}`+"\n", "", 1)+notify, "DIR", dir)
+	text := strings.ReplaceAll(strings.Replace(configtest.NotifyBase, `http: {listen: "127.0.0.1:0"}`+"\n", "", 1)+notify, "DIR", dir)
 
 	t.Setenv("CREDENTIALS_DIRECTORY", creds)
 	cfg, err := ParseConfig("holdfast.yaml", []byte(text))
