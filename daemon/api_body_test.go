@@ -1,16 +1,11 @@
 package daemon
 
 import (
-	"context"
 	"encoding/json"
-	"holdfast/daemon/config"
 	"io"
 	"net/http"
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
-	"time"
 )
 
 // postRaw sends body as it is and returns the status and the reply.
@@ -36,34 +31,8 @@ func postRaw(t *testing.T, d *Daemon, path, token, body string) (int, string) {
 // alarm's state were at fault), and a field the endpoint does not know (a
 // misspelt "reason" was silently dropped), named with the known ones.
 func TestAPIBodiesRefuseBadInput(t *testing.T) {
-	dir := t.TempDir()
-	tok := filepath.Join(dir, "token")
 	const token = "body-token-0123456789"
-	if err := os.WriteFile(tok, []byte(token+"\n"), 0o600); err != nil {
-		t.Fatal(err)
-	}
-	cfg, err := config.ParseConfig("body.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(shelveConfig)))
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, err := New(cfg, Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	ctx, cancel := context.WithCancel(context.Background())
-	done := make(chan error, 1)
-	go func() { done <- d.Run(ctx) }()
-	defer func() {
-		cancel()
-		if err := <-done; err != nil {
-			t.Errorf("Run: %v", err)
-		}
-	}()
-	select {
-	case <-d.alarmsReady:
-	case <-time.After(10 * time.Second):
-		t.Fatal("alarm state not loaded")
-	}
+	d := startShelveDaemon(t, token)
 	for _, c := range []struct {
 		path, body string
 		want       []string // in the reply

@@ -1,7 +1,6 @@
 package daemon
 
 import (
-	"context"
 	"net/http"
 	"os"
 	"path/filepath"
@@ -26,14 +25,13 @@ alarms:
   - {name: vented, gauge: pirani, above: 50 kPa, severity: critical}
 `
 
-// "alarms shelve NAME --reason x" without --for shelved a critical alarm
-// forever, across restarts. Through the API a shelf now ends at
-// shelving.default, never passes shelving.max, and a critical alarm needs
-// its end given.
-func TestShelveThroughTheAPIAlwaysEnds(t *testing.T) {
+// startShelveDaemon runs a daemon on shelveConfig with token as its bearer
+// token until the test ends, and waits for its alarm state to load.
+func startShelveDaemon(t *testing.T, token string) *Daemon {
+	t.Helper()
 	dir := t.TempDir()
 	tok := filepath.Join(dir, "token")
-	if err := os.WriteFile(tok, []byte("shelf-token-0123456789\n"), 0o600); err != nil {
+	if err := os.WriteFile(tok, []byte(token+"\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
 	cfg, err := config.ParseConfig("shelf.yaml", []byte(strings.NewReplacer("DIR", dir, "TOKEN", tok).Replace(shelveConfig)))
@@ -44,16 +42,22 @@ func TestShelveThroughTheAPIAlwaysEnds(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	ctx, cancel := context.WithCancel(context.Background())
-	done := make(chan error, 1)
-	go func() { done <- d.Run(ctx) }()
-	defer func() {
-		cancel()
-		if err := <-done; err != nil {
-			t.Errorf("Run: %v", err)
-		}
-	}()
+	t.Cleanup(runInBackground(t, d))
+	select {
+	case <-d.alarmsReady:
+	case <-time.After(10 * time.Second):
+		t.Fatal("alarm state not loaded")
+	}
+	return d
+}
+
+// "alarms shelve NAME --reason x" without --for shelved a critical alarm
+// forever, across restarts. Through the API a shelf now ends at
+// shelving.default, never passes shelving.max, and a critical alarm needs
+// its end given.
+func TestShelveThroughTheAPIAlwaysEnds(t *testing.T) {
 	const token = "shelf-token-0123456789"
+	d := startShelveDaemon(t, token)
 	call := func(alarm string, body AlarmActionJSON) (int, AlarmJSON) {
 		var out AlarmJSON
 		var code int
