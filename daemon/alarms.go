@@ -143,7 +143,9 @@ var eventKinds = map[alerts.EventKind]string{alerts.LimitCrossed: "limit-crossed
 // alarmEvent logs an engine event, hands transitions to the notifiers and
 // shows the event to whoever watches the daemon.
 func (d *Daemon) alarmEvent(log *slog.Logger, ev alerts.Event) {
-	logAlarmEvent(log, ev)
+	if !d.eventsShown {
+		logAlarmEvent(log, ev)
+	}
 	if ev.Transition() {
 		d.deliver(ev)
 	}

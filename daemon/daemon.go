@@ -47,6 +47,10 @@ type Options struct {
 	Log     *slog.Logger // nil discards
 	Clock   Clock        // nil is the wall clock
 	OnEvent func(Event)  // called from pollers; must not block for long
+	// EventsShown says OnEvent shows every alarm event to the person
+	// watching (the demo prints them): the log then leaves alarm events
+	// out, so that each prints once.
+	EventsShown bool
 }
 
 // A Daemon polls every gauge of one config and serves what it reads.
@@ -55,6 +59,7 @@ type Daemon struct {
 	log         *slog.Logger
 	clock       Clock
 	emit        func(Event)
+	eventsShown bool // alarm events are shown by emit, not logged
 	store       *store.DB
 	links       []*link
 	gauges      []*gauge // sorted by name
@@ -95,7 +100,7 @@ func StorePath(dir string) string { return filepath.Join(dir, "holdfast.db") }
 // New builds a daemon: it opens the store and the links' drivers and binds
 // the HTTP listener, so that every startup problem is reported before Run.
 func New(cfg *config.Config, opt Options) (_ *Daemon, err error) {
-	d := &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, alarmsReady: make(chan struct{}),
+	d := &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, eventsShown: opt.EventsShown, alarmsReady: make(chan struct{}),
 		file: cfg.File, reloads: make(chan reloadRequest), reloadOK: &reloadStatus{ok: true, at: time.Now()}}
 	if d.log == nil {
 		d.log = slog.New(slog.DiscardHandler)

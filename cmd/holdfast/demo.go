@@ -79,7 +79,7 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 
 	start := time.Now()
 	clock := sim.NewClock(start, *speed)
-	d, err := daemon.New(cfg, daemon.Options{Log: log, Clock: clock, OnEvent: demoPrinter(stdout, start)})
+	d, err := daemon.New(cfg, daemon.Options{Log: log, Clock: clock, OnEvent: demoPrinter(stdout, start), EventsShown: true})
 	if err != nil {
 		if errors.Is(err, syscall.EADDRINUSE) {
 			return fmt.Errorf("%w (another holdfast running? try --listen 127.0.0.1:0)", err)

@@ -58,3 +58,39 @@ func TestCheckCommand(t *testing.T) {
 		t.Errorf("check named %d problems, want every one:\n%s", n, errOut.String())
 	}
 }
+
+// Each alarm prints once: the demo's event lines show it, so the log on
+// stderr does not repeat it (a high alarm's raise is logged as WARN by
+// `holdfast run`, and the demo shows WARN lines).
+func TestDemoPrintsEachAlarmOnce(t *testing.T) {
+	dir := t.TempDir()
+	cfg := filepath.Join(dir, "once.yaml")
+	if err := os.WriteFile(cfg, []byte(`chamber: {name: once-bench, volume: 30 L}
+store: {dir: /unused}
+links:
+  bench:
+    simulator:
+      rough_pump: {speed: 5 m3/h, ultimate: 1 Pa}
+      seed: 3
+gauges:
+  pirani: {link: bench, driver: sim, instrument: pirani, kind: pressure, unit: mbar, interval: 1s}
+alarms:
+  - {name: roughed-out, gauge: pirani, below: 10 mbar, severity: high}
+`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var out, errOut bytes.Buffer
+	// 5 m³/h on 30 L: p falls as e^(-S·t/V), from 1000 to 10 mbar in
+	// t = (V/S)·ln 100 = (0.03 m³ / 1.39e-3 m³/s)·4.61 = 100 s simulated,
+	// well within the 600 s the demo runs.
+	err := run(context.Background(), []string{"demo", "--config", cfg, "--for", "1s", "--speed", "600", "--listen", "127.0.0.1:0"}, &out, &errOut)
+	if err != nil {
+		t.Fatalf("demo: %v\n%s", err, errOut.String())
+	}
+	if n := strings.Count(out.String(), "alarm-raised   roughed-out"); n != 1 {
+		t.Errorf("the raise printed %d times on stdout, want once:\n%s", n, out.String())
+	}
+	if strings.Contains(errOut.String(), "roughed-out") {
+		t.Errorf("the alarm is printed again by the log:\n%s", errOut.String())
+	}
+}
