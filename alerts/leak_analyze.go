@@ -334,6 +334,9 @@ func (res *RiseResult) classify() {
 		res.Reason = fmt.Sprintf("the linear term explains %.0f %% of the %.3g Pa rise", 100*res.LeakShare, rise)
 		if res.Fit.Model == ModelLine {
 			res.Reason += " (a straight line fits: no outgassing term needed)"
+			res.Notes = append(res.Notes, "a straight rise cannot tell a leak from outgassing that stays "+
+				"steady over the record: the leak term holds any such outgassing too, so the leak is at most "+
+				"that rate; a repeat after more pumping that gives the same rate confirms a leak")
 		}
 		if res.Fit.Slope < -riseCoverage*res.Fit.SlopeUncertainty {
 			res.Notes = append(res.Notes, "the linear term is negative: something removes gas (a pump, a "+

@@ -3,6 +3,7 @@ package alerts
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -75,6 +76,9 @@ func TestLeakUncertaintyTakesInScaleAndVolume(t *testing.T) {
 	}
 	if fitOnly.LeakRateUncertainty > 1e-3*res.LeakRateUncertainty {
 		t.Errorf("the fit alone gives u(Q) = %.3g: the record is not as clean as the test needs", fitOnly.LeakRateUncertainty)
+	}
+	if !slices.ContainsFunc(res.Notes, func(n string) bool { return strings.Contains(n, "outgassing that stays steady") }) {
+		t.Errorf("a straight rise's notes %q do not say that steady outgassing is in the leak term", res.Notes)
 	}
 	if res.ScaleUncertainty != 0.01 || res.VolumeUncertainty != 0.025 {
 		t.Errorf("result says scale %g, volume %g: the components taken in are not stated", res.ScaleUncertainty, res.VolumeUncertainty)

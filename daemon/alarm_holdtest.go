@@ -284,9 +284,13 @@ func (d *Daemon) finishHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time
 		ev.Problems = append(ev.Problems, "the scheduled test started although "+c.Refusal)
 	}
 	h.Evidence = &ev
-	res, aerr := alerts.AnalyzeRise(ts, ps, h.VolumeM3, alerts.RiseOptions{})
+	opt, uNote := d.riseUncertainties(h.Gauge, ps)
+	res, aerr := alerts.AnalyzeRise(ts, ps, h.VolumeM3, opt)
 	if err == nil {
 		err = aerr
+	}
+	if aerr == nil && res.Classification != alerts.Inconclusive {
+		res.Notes = append(res.Notes, uNote)
 	}
 	if err != nil && len(ev.Problems) > 0 {
 		err = fmt.Errorf("%s (%w)", strings.Join(ev.Problems, "; "), err)

@@ -46,7 +46,8 @@ func (d *Daemon) rule(a *config.AlarmConfig) alerts.Rule {
 		rw := a.RiseWatch
 		u, _ := calib.ParseUnit(rw.Unit, calib.Throughput)
 		return &alerts.RiseWatch{Gauge: a.Gauge, Window: rw.Window.D(), Every: rw.Every.D(), MaxLeak: float64(rw.MaxLeak),
-			Volume: float64(d.cfg.Chamber.Volume), Always: rw.While.Mode == "always", IsolatedBy: rw.While.Gauge, Unit: u}
+			Volume: float64(d.cfg.Chamber.Volume), Options: alerts.RiseOptions{VolumeUncertainty: float64(d.cfg.Chamber.VolumeUncertainty) / alerts.CoverageK},
+			Always: rw.While.Mode == "always", IsolatedBy: rw.While.Gauge, Unit: u}
 	case "stale":
 		return &alerts.Stale{Gauge: a.Gauge, After: a.Stale.D()}
 	case "fault":

@@ -33,6 +33,10 @@ type Config struct {
 type ChamberConfig struct {
 	Name   string `yaml:"name"`
 	Volume Volume `yaml:"volume"` // m³; needed for leak rates (Q = V·dp/dt)
+	// VolumeUncertainty is the volume's relative expanded uncertainty
+	// (k = 2), written as a percentage ("5%"); 0 when not given. It enters
+	// every leak rate's uncertainty.
+	VolumeUncertainty Percent `yaml:"volume_uncertainty"`
 }
 
 // HTTPConfig says where the daemon serves metrics and its API.

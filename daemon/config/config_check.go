@@ -80,6 +80,8 @@ func check(cfg *Config, prior []Problem) []Problem {
 	v := &checker{cfg: cfg, probs: prior}
 	v.expect(cfg.Chamber.Name != "", "chamber.name", "missing; give the chamber a name, e.g. name: bakeout-3")
 	v.expect(cfg.Chamber.Volume > 0, "chamber.volume", "must be a positive volume such as 30 L, got %g m3", float64(cfg.Chamber.Volume))
+	v.expect(cfg.Chamber.VolumeUncertainty >= 0 && cfg.Chamber.VolumeUncertainty < 1, "chamber.volume_uncertainty",
+		"want the volume's relative expanded uncertainty (k = 2) from 0%% to under 100%%, such as 5%%, got %g%%", 100*float64(cfg.Chamber.VolumeUncertainty))
 	if cfg.HTTP.Listen == "" {
 		cfg.HTTP.Listen = DefaultListen
 	} else if _, port, err := net.SplitHostPort(cfg.HTTP.Listen); err != nil {
