@@ -30,7 +30,7 @@ func (d *Daemon) riseUncertainties(gauge string, ps []float64) (alerts.RiseOptio
 	} else {
 		out = append(out, "the gauge's scale ("+why+"; the instrument's own accuracy comes on top)")
 	}
-	if u := float64(d.cfg.Chamber.VolumeUncertainty); u > 0 {
+	if u := float64(d.conf().Chamber.VolumeUncertainty); u > 0 {
 		opt.VolumeUncertainty = u / alerts.CoverageK
 		in = append(in, fmt.Sprintf("the volume (chamber.volume_uncertainty: %.2g %% at k = %g)", 100*u, alerts.CoverageK))
 	} else {

@@ -22,7 +22,7 @@ type holdSchedule struct {
 // coming back), and a valve moving at an unplanned time is the greater harm.
 func (d *Daemon) holdSchedules(now time.Time) []*holdSchedule {
 	var out []*holdSchedule
-	for _, a := range d.cfg.Alarms {
+	for _, a := range d.conf().Alarms {
 		if a.HoldTest == nil || a.HoldTest.Schedule == nil {
 			continue
 		}

@@ -107,7 +107,7 @@ func (d *Daemon) observeHealth(log *slog.Logger, now time.Time) {
 	}
 	samples := map[string]float64{alerts.HealthStoreWrites: b2f(failing), alerts.HealthNotifyRefused: float64(d.refusedLately(now))}
 	var fs syscall.Statfs_t
-	if err := syscall.Statfs(d.cfg.Store.Dir, &fs); err == nil && fs.Blocks > 0 {
+	if err := syscall.Statfs(d.conf().Store.Dir, &fs); err == nil && fs.Blocks > 0 {
 		samples[alerts.HealthDiskFree] = float64(fs.Bavail) / float64(fs.Blocks)
 	}
 	for g, v := range samples {

@@ -12,7 +12,7 @@ import (
 // the seam daemon.New calls.)
 func (d *Daemon) limits() []*alerts.Alarm {
 	var out []*alerts.Alarm
-	for _, a := range d.cfg.Alarms {
+	for _, a := range d.conf().Alarms {
 		al := &alerts.Alarm{Name: a.Name, Gauge: a.Gauge, Severity: alerts.Severity(a.Severity), Message: a.Message,
 			OnDelay: a.For.D(), OffDelay: a.ClearAfter.D(), Rule: d.rule(a)}
 		if a.Health != "" {
@@ -27,7 +27,7 @@ func (d *Daemon) limits() []*alerts.Alarm {
 }
 
 func (d *Daemon) gaugeUnit(name string) calib.Unit {
-	g := d.cfg.Gauges[name]
+	g := d.conf().Gauges[name]
 	if g == nil {
 		return calib.Unit{}
 	}
@@ -46,7 +46,7 @@ func (d *Daemon) rule(a *config.AlarmConfig) alerts.Rule {
 		rw := a.RiseWatch
 		u, _ := calib.ParseUnit(rw.Unit, calib.Throughput)
 		return &alerts.RiseWatch{Gauge: a.Gauge, Window: rw.Window.D(), Every: rw.Every.D(), MaxLeak: float64(rw.MaxLeak),
-			Volume: float64(d.cfg.Chamber.Volume), Options: alerts.RiseOptions{VolumeUncertainty: float64(d.cfg.Chamber.VolumeUncertainty) / alerts.CoverageK},
+			Volume: float64(d.conf().Chamber.Volume), Options: alerts.RiseOptions{VolumeUncertainty: float64(d.conf().Chamber.VolumeUncertainty) / alerts.CoverageK},
 			Always: rw.While.Mode == "always", IsolatedBy: rw.While.Gauge, Unit: u}
 	case "stale":
 		return &alerts.Stale{Gauge: a.Gauge, After: a.Stale.D()}
@@ -58,7 +58,7 @@ func (d *Daemon) rule(a *config.AlarmConfig) alerts.Rule {
 	case "pump_down":
 		p := a.PumpDown
 		return &alerts.PumpDeadline{Gauge: a.Gauge, Start: float64(p.Start), Target: float64(p.Target), Within: p.Within.D(),
-			Guide: alerts.PumpDown{Volume: float64(d.cfg.Chamber.Volume), Speed: float64(p.Speed)}, Unit: unit}
+			Guide: alerts.PumpDown{Volume: float64(d.conf().Chamber.Volume), Speed: float64(p.Speed)}, Unit: unit}
 	case "hold_test":
 		u, _ := calib.ParseUnit(a.HoldTest.Unit, calib.Throughput)
 		return &alerts.HoldTest{Gauge: a.Gauge, Allowed: float64(a.HoldTest.AllowedLeak), Unit: u}

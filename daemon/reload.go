@@ -124,7 +124,7 @@ func (d *Daemon) startPollers(ctx context.Context) *pollers {
 // under liveMu, closes the connections no longer used and starts the new
 // pollers. On any error the old config and its pollers keep running.
 func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*pollers, config.Changes, error) {
-	ch := config.Diff(d.cfg, cfg)
+	ch := config.Diff(d.conf(), cfg)
 	if keys := restartKeys(ch); len(keys) > 0 {
 		return old, ch, &ReloadError{Restart: keys}
 	}
@@ -134,8 +134,9 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 	if id := d.runningHoldTest(); id != "" {
 		return old, ch, &ReloadError{Reason: "hold test " + id + " is running; reload after it ends"}
 	}
-	nd := &Daemon{cfg: cfg, log: d.log, clock: d.clock, emit: d.emit, store: d.store, trace: d.trace,
+	nd := &Daemon{log: d.log, clock: d.clock, emit: d.emit, store: d.store, trace: d.trace,
 		reuse: map[string]*link{}, prev: map[string]*gauge{}}
+	nd.cfgp.Store(cfg)
 	for _, l := range d.links {
 		if !slices.Contains(ch.Links.Changed, l.name) && cfg.Links[l.name] != nil {
 			nd.reuse[l.name] = l
@@ -174,7 +175,8 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 			og.mu.Unlock()
 		}
 	}
-	d.cfg, d.links, d.gauges = cfg, nd.links, nd.gauges
+	d.cfgp.Store(cfg)
+	d.links, d.gauges = nd.links, nd.gauges
 	d.met.gaugesChanged(oldGauges, d.gauges)
 	d.liveMu.Unlock()
 
