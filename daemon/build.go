@@ -284,7 +284,7 @@ func (d *Daemon) simInstrument(l *link, name string, gc *config.GaugeConfig) (*s
 func simInstrument(name string, gc *config.GaugeConfig) sim.InstrumentConfig {
 	return sim.InstrumentConfig{
 		Name: name, Kind: gc.Instrument, Digits: gc.Digits, FullScale: float64(gc.FullScale),
-		Where: gc.Where, Protect: float64(gc.Protect), Probe: simProbe(gc.Probe),
+		Where: gc.Where, Protect: float64(gc.Protect), Probe: simProbe(gc.Probe), Noise: gc.Noise,
 		Timeout: time.Hour, // a silent instrument waits for the daemon's own read timeout
 	}
 }

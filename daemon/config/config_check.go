@@ -3,6 +3,7 @@ package config
 import (
 	"cmp"
 	"fmt"
+	"math"
 	"net"
 	"slices"
 	"strconv"
@@ -277,6 +278,9 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 		wantKind := map[string]string{"pirani": "pressure", "cdg": "pressure", "ion": "pressure", "thermocouple": "temperature", "rtd": "temperature"}[g.Instrument]
 		v.expect(wantKind == "" || g.Kind == wantKind, path+".kind", "a %s measures %s, got kind %q", g.Instrument, wantKind, g.Kind)
 		v.expect(g.Digits >= 0 && g.Digits <= 15, path+".digits", "want 1 to 15 significant digits, got %d", g.Digits)
+		v.expect(g.Noise >= 0 && !math.IsInf(g.Noise, 1), path+".noise", "want a standard deviation of 0 or more (0: the instrument's default), got %g", g.Noise)
+	} else {
+		v.expect(g.Noise == 0, path+".noise", "only a simulated instrument (driver: sim) takes noise; remove it")
 	}
 	v.expect(g.Driver != "sim" || g.Instrument != "rtd" || g.Probe != nil, path+".probe", "a simulated rtd reports ohms; say which element, e.g. probe: {rtd: pt100}")
 	v.calibration(name, g)
