@@ -230,7 +230,7 @@ func (m *metrics) gaugesChanged(old, new []*gauge) {
 		if !slices.ContainsFunc(new, func(n *gauge) bool { return n.name == g.name }) {
 			m.polls.DeleteLabelValues(g.name)
 			m.skipped.DeleteLabelValues(g.name)
-			for _, r := range []string{"no-reply", "bad-reply", "link"} {
+			for _, r := range pollFailReasons {
 				m.pollErrors.DeleteLabelValues(g.name, r)
 			}
 		}
@@ -238,7 +238,7 @@ func (m *metrics) gaugesChanged(old, new []*gauge) {
 	for _, g := range new {
 		m.polls.WithLabelValues(g.name)
 		m.skipped.WithLabelValues(g.name)
-		for _, r := range []string{"no-reply", "bad-reply", "link"} {
+		for _, r := range pollFailReasons {
 			m.pollErrors.WithLabelValues(g.name, r)
 		}
 	}
