@@ -3,6 +3,7 @@ package daemon
 import (
 	"bufio"
 	"context"
+	"fmt"
 	"io"
 	"net/http"
 	"strconv"
@@ -150,6 +151,10 @@ func TestDaemonEndToEnd(t *testing.T) {
 	// The chamber is at atmosphere from the first sample: that starts the
 	// on-delay but is no crossing to announce.
 	if kinds["limit-crossed still-rough"] {
-		t.Errorf("a limit-crossed event for a condition true from the first sample; got %v", kinds)
+		var lines []string
+		for _, e := range events {
+			lines = append(lines, fmt.Sprintf("%s %s %s %s: %s", e.At.Format(time.RFC3339Nano), e.Kind, e.Gauge, e.Alarm, e.Message))
+		}
+		t.Errorf("a limit-crossed event for a condition true from the first sample; events:\n%s", strings.Join(lines, "\n"))
 	}
 }
