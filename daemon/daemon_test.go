@@ -149,12 +149,19 @@ func TestDaemonEndToEnd(t *testing.T) {
 		}
 	}
 	// The chamber is at atmosphere from the first sample: that starts the
-	// on-delay but is no crossing to announce.
-	if kinds["limit-crossed still-rough"] {
-		var lines []string
-		for _, e := range events {
-			lines = append(lines, fmt.Sprintf("%s %s %s %s: %s", e.At.Format(time.RFC3339Nano), e.Kind, e.Gauge, e.Alarm, e.Message))
+	// on-delay but is no crossing to announce, so the alarm's first event is
+	// its raise. (Later, the Pirani's 2 % noise near 1000 Pa may take a
+	// reading back over the limit after the clear: that is a crossing.)
+	var lines []string
+	firstEvent := ""
+	for _, e := range events {
+		lines = append(lines, fmt.Sprintf("%s %s %s %s: %s", e.At.Format(time.RFC3339Nano), e.Kind, e.Gauge, e.Alarm, e.Message))
+		if e.Alarm == "still-rough" && firstEvent == "" {
+			firstEvent = e.Kind
 		}
-		t.Errorf("a limit-crossed event for a condition true from the first sample; events:\n%s", strings.Join(lines, "\n"))
+	}
+	if firstEvent != "alarm-raised" {
+		t.Errorf("the alarm's first event is %q, want alarm-raised (no crossing for a condition true from the first sample); events:\n%s",
+			firstEvent, strings.Join(lines, "\n"))
 	}
 }
