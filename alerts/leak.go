@@ -3,6 +3,7 @@ package alerts
 import (
 	"errors"
 	"math"
+	"strings"
 )
 
 // The leak analysis of a pressure-rise record. After a chamber is isolated
@@ -107,6 +108,20 @@ func (o RiseOptions) withDefaults() RiseOptions {
 	}
 	o.MaxPoints = max(o.MaxPoints, 2*minCurvedPoints)
 	return o
+}
+
+// IntervalNote says what a leak rate's ± interval takes in beside the fit's
+// scatter (with: the gauge's scale, the volume, each with its figure) and
+// what it leaves out (without), for a result's notes.
+func IntervalNote(with, without []string) string {
+	note := "the ± interval takes in the fit's scatter"
+	if len(with) > 0 {
+		note += ", " + strings.Join(with, " and ")
+	}
+	if len(without) > 0 {
+		note += "; it leaves out " + strings.Join(without, " and ")
+	}
+	return note
 }
 
 // RiseResult is the outcome of AnalyzeRise. Rates are pV throughputs in

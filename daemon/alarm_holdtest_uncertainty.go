@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"slices"
 	"strconv"
-	"strings"
 
 	"holdfast/alerts"
 	"holdfast/calib"
@@ -36,14 +35,7 @@ func (d *Daemon) riseUncertainties(gauge string, ps []float64) (alerts.RiseOptio
 	} else {
 		out = append(out, "the volume's (set chamber.volume_uncertainty)")
 	}
-	note := "the ± interval takes in the fit's scatter"
-	if len(in) > 0 {
-		note += ", " + strings.Join(in, " and ")
-	}
-	if len(out) > 0 {
-		note += "; it leaves out " + strings.Join(out, " and ")
-	}
-	return opt, note
+	return opt, alerts.IntervalNote(in, out)
 }
 
 // gaugeScale returns the relative standard uncertainty of gauge's pressure

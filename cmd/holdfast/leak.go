@@ -208,14 +208,7 @@ func leakIntervalNote(in leakInputs) string {
 	} else {
 		without = append(without, "the volume's (give --volume-uncertainty)")
 	}
-	note := "the ± interval takes in the fit's scatter"
-	if len(with) > 0 {
-		note += ", " + strings.Join(with, " and ")
-	}
-	if len(without) > 0 {
-		note += "; it leaves out " + strings.Join(without, " and ")
-	}
-	return note
+	return alerts.IntervalNote(with, without)
 }
 
 // riseUnit is the pressure unit of the file: the header's or --unit's;
