@@ -41,7 +41,7 @@ func TestRiseUncertaintiesNameTheirSources(t *testing.T) {
 	}
 
 	cal := &calib.Calibration{Uncertainty: calib.Uncertainty{K: 2, Ranges: []calib.UncertaintyRange{
-		{From: 1e-4, To: 1, Expanded: 0.012}, {From: 1, To: 10, Expanded: 0.03}}}}
+		{From: 1e-4, To: 1, Expanded: 0.012}, {From: 1, To: 10, Expanded: 0.03}, {From: 10, To: 100, Expanded: 1.5}}}}
 	d.gaugeNamed("ion").setTransfer(calib.Extended{Cal: cal}, 7)
 	for _, c := range []struct {
 		ps    []float64
@@ -51,6 +51,7 @@ func TestRiseUncertaintiesNameTheirSources(t *testing.T) {
 		{[]float64{1e-3, 2e-3}, 0.006, "the gauge's scale (its calibration: 1.2 % at k = 2)"},
 		{[]float64{0.5, 2}, 0.015, "the gauge's scale (its calibration: 3 % at k = 2)"},
 		{[]float64{1e-5, 1e-3}, 0, "calibration 7 states no uncertainty at 1e-05 Pa"},
+		{[]float64{20, 30}, 0, "calibration 7 states 150 % at these pressures, too coarse"},
 	} {
 		opt, note := d.riseUncertainties("ion", c.ps)
 		if math.Abs(opt.ScaleUncertainty-c.scale) > 1e-12 || !strings.Contains(note, c.says) {
