@@ -48,7 +48,10 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 	}
 	d.abortHoldTests(log, st, "the daemon stopped during the test (a crash, a kill or a power cut); its record is incomplete", false)
 	close(d.alarmsReady)
-	scheds := d.holdSchedules(d.clock.Now())
+	d.liveMu.RLock()
+	schedCfg := d.cfg
+	scheds := d.holdSchedules(d.clock.Now(), nil)
+	d.liveMu.RUnlock()
 	var lastHealth time.Time
 	var saveErr error
 	var dropped uint64
@@ -73,6 +76,9 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 			d.repeats.Flush()
 		}
 		d.holdTests(ctx, log, st, now)
+		if d.cfg != schedCfg { // reloaded
+			schedCfg, scheds = d.cfg, d.holdSchedules(now, scheds)
+		}
 		d.runSchedules(log, scheds, now)
 		d.liveMu.RUnlock()
 		select {

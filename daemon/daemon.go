@@ -64,7 +64,8 @@ type Daemon struct {
 	links       []*link
 	gauges      []*gauge // sorted by name
 	alarms      *alerts.Engine
-	bake        *baker // nil without a bake plan
+	alarmDefs   []*alerts.Alarm // what alarms runs, as built from cfg; a reload keeps the unchanged ones
+	bake        *baker          // nil without a bake plan
 	met         *metrics
 	ln          net.Listener
 	token       string // bearer token for changes; empty refuses them
@@ -125,7 +126,8 @@ func New(cfg *config.Config, opt Options) (_ *Daemon, err error) {
 	for _, g := range d.gauges {
 		g.slack = pollSlack(d.clock)
 	}
-	d.alarms = alerts.NewEngine(d.limits())
+	d.alarmDefs = d.limits()
+	d.alarms = alerts.NewEngine(d.alarmDefs)
 	d.alarms.SetShelfLimits(alerts.ShelfLimits{Default: cfg.Shelving.Default.D(), Max: cfg.Shelving.Max.D()})
 	if d.token, err = config.ReadToken(cfg.HTTP.TokenPath()); err != nil {
 		return nil, err

@@ -13,10 +13,12 @@ import (
 	"holdfast/daemon/config"
 )
 
-// A reload applies links and gauges live; any other difference refuses the
-// whole reload (nothing is applied) with the keys that need a restart, so
-// the running daemon never mixes two configs. The alarm engine, its state
-// and the outbox are not rebuilt: alarms and notifiers cannot change live.
+// A reload applies links, gauges, alarms and shelving live; any other
+// difference refuses the whole reload (nothing is applied) with the keys
+// that need a restart, so the running daemon never mixes two configs. The
+// alarm engine is not rebuilt: it swaps its set of alarms, keeping every
+// alarm's state by name (reload_alarms.go). The outbox is not rebuilt:
+// notifiers cannot change live.
 
 // ReloadError is a reload that was refused: the old config keeps running.
 type ReloadError struct {
@@ -90,13 +92,10 @@ func (d *Daemon) reloadFailed(err error) {
 	d.log.Error("config not reloaded; the running config stays", "file", d.file, "err", err)
 }
 
-// liveParts are the parts of a config a reload changes on a running
-// daemon; restartKeys lists the changes outside them.
+// restartKeys lists the changes a running daemon cannot take: the
+// notifiers and every key outside links, gauges, alarms and shelving.
 func restartKeys(c config.Changes) []string {
-	keys := slices.Clone(c.Keys)
-	if !c.Alarms.Empty() {
-		keys = append(keys, "alarms")
-	}
+	keys := slices.DeleteFunc(slices.Clone(c.Keys), liveKey)
 	if !c.Notify.Empty() {
 		keys = append(keys, "notify")
 	}
@@ -119,21 +118,69 @@ func (d *Daemon) startPollers(ctx context.Context) *pollers {
 }
 
 // apply swaps cfg in for the running config, from Run's goroutine: it
-// builds the new links (reusing the connections of unchanged ones) and
-// gauges while the old pollers run, stops those between polls, swaps
-// under liveMu, closes the connections no longer used and starts the new
+// builds the new links (reusing the connections of unchanged ones),
+// gauges and alarms while the old pollers run, stops those between polls,
+// swaps under liveMu (the alarm engine's set with the gauges, both or
+// neither), closes the connections no longer used and starts the new
 // pollers. On any error the old config and its pollers keep running.
 func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*pollers, config.Changes, error) {
 	ch := config.Diff(d.cfg, cfg)
 	if keys := restartKeys(ch); len(keys) > 0 {
 		return old, ch, &ReloadError{Restart: keys}
 	}
-	if ch.Links.Empty() && ch.Gauges.Empty() {
+	defs := d.reloadAlarms(cfg, ch)
+	gauges := !ch.Links.Empty() || !ch.Gauges.Empty()
+	if !gauges && defs == nil && len(ch.Keys) == 0 {
 		return old, ch, nil
 	}
-	if id := d.runningHoldTest(); id != "" {
+	if id := d.runningHoldTest(); id != "" && (gauges || defs != nil) {
 		return old, ch, &ReloadError{Reason: "hold test " + id + " is running; reload after it ends"}
 	}
+	var nd *Daemon
+	if gauges {
+		var err error
+		if nd, err = d.buildReloaded(cfg, ch); err != nil {
+			return old, ch, err
+		}
+		close(old.stop)
+		old.wg.Wait()
+	}
+
+	d.liveMu.Lock()
+	if err := d.swapAlarms(cfg, defs); err != nil {
+		d.liveMu.Unlock()
+		if nd == nil {
+			return old, ch, err
+		}
+		if cerr := nd.closeNew(); cerr != nil {
+			d.log.Warn("closing the links of a refused reload", "err", cerr)
+		}
+		return d.startPollers(ctx), ch, err // the old links, still open, poll on
+	}
+	var oldLinks []*link
+	if nd != nil {
+		oldLinks = d.swapGauges(nd)
+	}
+	d.cfg = cfg
+	d.liveMu.Unlock()
+	if nd == nil {
+		return old, ch, nil
+	}
+
+	for _, l := range oldLinks {
+		if !nd.keeps(l.name) && l.close != nil {
+			if err := l.close(); err != nil {
+				d.log.Warn("closing link", "link", l.name, "err", err)
+			}
+		}
+	}
+	return d.startPollers(ctx), ch, nil
+}
+
+// buildReloaded builds the links and gauges of cfg, taking over the
+// running connections of the links that do not change and the drivers of
+// the gauges that do not change.
+func (d *Daemon) buildReloaded(cfg *config.Config, ch config.Changes) (*Daemon, error) {
 	nd := &Daemon{cfg: cfg, log: d.log, clock: d.clock, emit: d.emit, store: d.store, trace: d.trace,
 		reuse: map[string]*link{}, prev: map[string]*gauge{}}
 	for _, l := range d.links {
@@ -156,12 +203,16 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 	}
 	if err != nil {
 		err = errors.Join(err, nd.closeNew())
-		return old, ch, &ReloadError{Reason: "new config not applied: " + err.Error()}
+		return nil, &ReloadError{Reason: "new config not applied: " + err.Error()}
 	}
-	close(old.stop)
-	old.wg.Wait()
+	return nd, nil
+}
 
-	d.liveMu.Lock()
+// swapGauges puts nd's links and gauges in place of the running ones,
+// carrying each kept gauge's last reading and schedule over, and returns
+// the links it replaced. The caller holds liveMu for writing and has
+// stopped the pollers.
+func (d *Daemon) swapGauges(nd *Daemon) []*link {
 	oldLinks, oldGauges := d.links, d.gauges
 	for _, g := range nd.gauges {
 		g.slack = pollSlack(d.clock)
@@ -174,18 +225,9 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 			og.mu.Unlock()
 		}
 	}
-	d.cfg, d.links, d.gauges = cfg, nd.links, nd.gauges
+	d.links, d.gauges = nd.links, nd.gauges
 	d.met.gaugesChanged(oldGauges, d.gauges)
-	d.liveMu.Unlock()
-
-	for _, l := range oldLinks {
-		if !nd.keeps(l.name) && l.close != nil {
-			if err := l.close(); err != nil {
-				d.log.Warn("closing link", "link", l.name, "err", err)
-			}
-		}
-	}
-	return d.startPollers(ctx), ch, nil
+	return oldLinks
 }
 
 // closeNew closes the connections a failed reload had opened, never the

@@ -1,0 +1,68 @@
+package daemon
+
+import (
+	"slices"
+	"strings"
+
+	"holdfast/alerts"
+	"holdfast/daemon/config"
+)
+
+// A reload applies alarms: and shelving: live (Engine.Replace keeps every
+// alarm's state by name). An alarm whose config and whose gauge's unit
+// are unchanged keeps the very *alerts.Alarm it runs under, so the engine
+// leaves it whole; one added or changed is built again from the new
+// config. The bake's alarms are kept as they are: a bake change needs a
+// restart.
+
+// liveKey reports whether a key outside the named parts (config.Changes.Keys)
+// applies on a running daemon.
+func liveKey(key string) bool { return key == "shelving" || strings.HasPrefix(key, "shelving.") }
+
+// reloadAlarms returns the alarms the engine is to run under cfg, or nil
+// when they are the ones it runs.
+func (d *Daemon) reloadAlarms(cfg *config.Config, ch config.Changes) []*alerts.Alarm {
+	nd := &Daemon{cfg: cfg}
+	running := make(map[string]*alerts.Alarm, len(d.alarmDefs))
+	for _, a := range d.alarmDefs {
+		running[a.Name] = a
+	}
+	differs := len(ch.Alarms.Removed) > 0
+	var out []*alerts.Alarm
+	for _, a := range cfg.Alarms {
+		old := running[a.Name]
+		if old != nil && !slices.Contains(ch.Alarms.Changed, a.Name) && d.gaugeUnit(a.Gauge) == nd.gaugeUnit(a.Gauge) {
+			out = append(out, old)
+			continue
+		}
+		out = append(out, nd.configAlarm(a))
+		differs = true
+	}
+	for _, a := range d.alarmDefs {
+		if !slices.ContainsFunc(d.cfg.Alarms, func(c *config.AlarmConfig) bool { return c.Name == a.Name }) {
+			out = append(out, a) // the bake's
+		}
+	}
+	if !differs {
+		return nil
+	}
+	return out
+}
+
+// swapAlarms puts the reloaded alarms and shelving limits in place, under
+// liveMu held for writing, so that no hold test starts meanwhile. It
+// refuses while a hold test runs: the test suppressed alarms and isolated
+// the chamber for the alarms it knows.
+func (d *Daemon) swapAlarms(cfg *config.Config, defs []*alerts.Alarm) error {
+	if defs != nil {
+		if id := d.runningHoldTest(); id != "" {
+			return &ReloadError{Reason: "hold test " + id + " is running; reload after it ends"}
+		}
+		if err := d.alarms.Replace(defs); err != nil {
+			return &ReloadError{Reason: "new alarms not applied: " + err.Error()}
+		}
+		d.alarmDefs = defs
+	}
+	d.alarms.SetShelfLimits(alerts.ShelfLimits{Default: cfg.Shelving.Default.D(), Max: cfg.Shelving.Max.D()})
+	return nil
+}
