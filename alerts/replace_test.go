@@ -38,7 +38,7 @@ func TestReplaceKeepsAnUnchangedAlarmWhole(t *testing.T) {
 // (no off-delay), as its third transition of its first occurrence.
 func TestReplaceChangedAlarmClearsThroughTheNormalPath(t *testing.T) {
 	e := started(t, limitAlarm(0, 0, 0))
-	e.Observe("chamber", pa(12, 0)) // raised, seq 1
+	e.Observe("chamber", pa(12, 0))                                                        // raised, seq 1
 	if _, err := e.Ack(Action{Alarm: "rough-lost", At: t0.Add(time.Second)}); err != nil { // seq 2
 		t.Fatal(err)
 	}

@@ -133,8 +133,8 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 	if !gauges && defs == nil && len(ch.Keys) == 0 {
 		return old, ch, nil
 	}
-	if id := d.runningHoldTest(); id != "" && (gauges || defs != nil) {
-		return old, ch, &ReloadError{Reason: "hold test " + id + " is running; reload after it ends"}
+	if err := d.holdTestRuns(gauges || defs != nil); err != nil {
+		return old, ch, err
 	}
 	var nd *Daemon
 	if gauges {
@@ -146,8 +146,12 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 		old.wg.Wait()
 	}
 
-	d.liveMu.Lock()
-	if err := d.swapAlarms(cfg, defs); err != nil {
+	d.liveMu.Lock() // no hold test starts from here on
+	err := d.holdTestRuns(gauges || defs != nil)
+	if err == nil {
+		err = d.swapAlarms(cfg, defs)
+	}
+	if err != nil {
 		d.liveMu.Unlock()
 		if nd == nil {
 			return old, ch, err
@@ -248,10 +252,14 @@ func (d *Daemon) keeps(name string) bool {
 	return d.reuse[name] != nil && slices.ContainsFunc(d.links, func(l *link) bool { return l.name == name })
 }
 
-// runningHoldTest is the id of a running hold test, or "": a reload waits
-// for it, since it may be driving a valve over a link.
-func (d *Daemon) runningHoldTest() string {
-	return d.alarms.RunningHoldTest()
+// holdTestRuns refuses a reload that changes links, gauges or alarms
+// (changes) while a hold test runs: it may be driving a valve over a link,
+// and it has suppressed the alarms it provokes.
+func (d *Daemon) holdTestRuns(changes bool) error {
+	if id := d.alarms.RunningHoldTest(); changes && id != "" {
+		return &ReloadError{Reason: "hold test " + id + " is running; reload after it ends"}
+	}
+	return nil
 }
 
 // reuseLink returns, for a reload, a link that takes over the open

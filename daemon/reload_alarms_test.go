@@ -219,12 +219,14 @@ func alarmDef(d *Daemon, name string) *alerts.Alarm {
 }
 
 // A shelved alarm whose rule and delays a reload changes stays shelved
-// until its shelf ends; its next transition is numbered on.
+// until its shelf ends; its next transition is numbered on. New shelving
+// limits in the same reload apply to shelving asked for after it.
 func TestReloadKeepsShelf(t *testing.T) {
-	d, path := alarmDaemon(t, alarmReloadBase)
+	base := alarmReloadBase + "shelving: {default: 1h, max: 2h}\n"
+	d, path := alarmDaemon(t, base)
 	shelved := alarmAction(t, d, "rough", "shelve", AlarmActionJSON{By: "day shift", Reason: "pump swap", For: "1h"})
-	reloadOK(t, d, path, strings.Replace(alarmReloadBase, "rough, gauge: pirani, above: 0.01 Pa,", "rough, gauge: pirani, above: 0.02 Pa, for: 1s,", 1),
-		"alarms changed: rough")
+	reloadOK(t, d, path, strings.NewReplacer("rough, gauge: pirani, above: 0.01 Pa,", "rough, gauge: pirani, above: 0.02 Pa, for: 1s,",
+		"max: 2h", "max: 4h").Replace(base), "alarms changed: rough\nchanged: shelving.max")
 	before := storedCount(t, d, "pirani")
 	waitFor(t, 10*time.Second, "more pirani samples", func() bool { return storedCount(t, d, "pirani") > before+3 })
 	all, _ := alarmsNow(t, d)
@@ -235,9 +237,10 @@ func TestReloadKeepsShelf(t *testing.T) {
 	if unshelved.State != "unacknowledged" {
 		t.Errorf("rough unshelved: %s, want unacknowledged (still above its limit)", unshelved.State)
 	}
+	alarmAction(t, d, "rough", "shelve", AlarmActionJSON{Reason: "longer than the old 2 h maximum", For: "3h"})
 	evs := historyOf(t, d, "rough")
-	if k := kindsOf(evs); !slices.Equal(k, []string{"raised", "shelved", "unshelved"}) {
-		t.Errorf("history of rough: %v, want raised shelved unshelved", k)
+	if k := kindsOf(evs); !slices.Equal(k, []string{"raised", "shelved", "unshelved", "shelved"}) {
+		t.Errorf("history of rough: %v, want raised shelved unshelved shelved", k)
 	}
 	checkSeq(t, evs)
 }
