@@ -43,9 +43,11 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 		log.Info("new instance id for the data file; dedupe keys of new transitions start with it",
 			"instance", st.Instance(), "reason", st.Renewed())
 	}
+	d.liveMu.RLock() // notify reads cfg, which a reload swaps
 	for _, ev := range pending {
 		d.deliver(ev)
 	}
+	d.liveMu.RUnlock()
 	d.abortHoldTests(log, st, "the daemon stopped during the test (a crash, a kill or a power cut); its record is incomplete", false)
 	close(d.alarmsReady)
 	d.liveMu.RLock()

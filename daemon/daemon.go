@@ -84,9 +84,9 @@ type Daemon struct {
 	flushMu  sync.Mutex
 	flushErr error
 
-	// Reload (reload.go): Run swaps cfg, links and gauges under liveMu,
-	// which HTTP handlers and the alarm, report and systemd loops hold
-	// while they read them; pollers are stopped across the swap.
+	// Reload (reload.go): Run swaps cfg, links, gauges and the engine's
+	// alarms under liveMu, which HTTP handlers and the daemon's loops hold
+	// while they read them; pollers are stopped across a swap of gauges.
 	file     string // the config file, read again by Reload
 	reloads  chan reloadRequest
 	reloadOK *reloadStatus
@@ -233,7 +233,10 @@ func (d *Daemon) Run(parent context.Context) error {
 }
 
 func (d *Daemon) flushLoop(ctx context.Context) {
-	t := time.NewTicker(d.cfg.Store.FlushEvery.D())
+	d.liveMu.RLock() // a reload may swap cfg already
+	every := d.cfg.Store.FlushEvery.D()
+	d.liveMu.RUnlock()
+	t := time.NewTicker(every)
 	defer t.Stop()
 	for {
 		select {

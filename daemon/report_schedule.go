@@ -22,7 +22,9 @@ import (
 // reportLoop writes the scheduled reports (report: every, at) on the
 // daemon's clock until ctx is done.
 func (d *Daemon) reportLoop(ctx context.Context) {
+	d.liveMu.RLock() // a reload may swap cfg already
 	rc := d.cfg.Report
+	d.liveMu.RUnlock()
 	if !rc.Scheduled() {
 		return
 	}

@@ -16,7 +16,9 @@ const retentionEvery = time.Hour
 // The store deletes in small transactions, so polling and flushing go on
 // meanwhile.
 func (d *Daemon) retentionLoop(ctx context.Context) {
+	d.liveMu.RLock() // a reload may swap cfg already
 	raw, minute, hour := d.cfg.Store.Retention.Tiers()
+	d.liveMu.RUnlock()
 	if raw <= 0 && minute <= 0 && hour <= 0 {
 		return
 	}
