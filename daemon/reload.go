@@ -46,7 +46,9 @@ type reloadResult struct {
 // Reload re-reads the config file the daemon was started with, checks it
 // and applies it without a restart: a gauge added starts polling, one
 // removed stops (its stored samples stay), a changed link is reconnected
-// and an unchanged one keeps its connection and its gauges their schedule.
+// and an unchanged one keeps its connection and its gauges their schedule;
+// alarms added, removed or changed apply too, each keeping its state by
+// name (Engine.Replace), as do new shelving limits.
 // An invalid file, or a change that needs a restart, leaves the running
 // config as it was; the error is a *config.ConfigError (every problem with
 // its line) or a *ReloadError. Reload waits for Run to apply the change.
