@@ -54,7 +54,7 @@ func (e *Engine) Replace(alarms []*Alarm) error {
 			}
 			e.isolate(st)
 		case st.a != a:
-			st.a, st.last, st.seen = a, unknown(), false
+			st.a, st.last = a, unknown() // the old rule's last condition says nothing of the new one's
 			e.isolate(st)
 		}
 		for _, g := range a.Rule.Gauges() {

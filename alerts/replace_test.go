@@ -58,3 +58,23 @@ func TestReplaceChangedAlarmClearsThroughTheNormalPath(t *testing.T) {
 		t.Error("Replace with a name twice succeeded")
 	}
 }
+
+// A rise watch built again by a reload (its limit changed) or added by it
+// is told the isolation the engine was last told, as the running ones were.
+func TestReplaceTellsNewRiseWatchesTheIsolation(t *testing.T) {
+	watch := func(name string, maxLeak float64) *Alarm {
+		return &Alarm{Name: name, Gauge: "chamber", Severity: "high",
+			Rule: &RiseWatch{Gauge: "chamber", Window: time.Minute, MaxLeak: maxLeak, Volume: 0.03}}
+	}
+	e := started(t, watch("leak-watch", 1e-6))
+	e.SetIsolated(true)
+	changed, added := watch("leak-watch", 1e-5), watch("second-watch", 1e-6)
+	if err := e.Replace([]*Alarm{changed, added}); err != nil {
+		t.Fatal(err)
+	}
+	for _, a := range []*Alarm{changed, added} {
+		if !a.Rule.(*RiseWatch).isolated {
+			t.Errorf("%s after the replace: not isolated; want isolated, as the engine was told", a.Name)
+		}
+	}
+}
