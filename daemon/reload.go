@@ -169,6 +169,7 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 	}
 	d.cfg = cfg
 	d.liveMu.Unlock()
+	d.stopReminders(ch.Alarms.Removed)
 	if nd == nil {
 		return old, ch, nil
 	}

@@ -6,6 +6,7 @@ import (
 
 	"holdfast/alerts"
 	"holdfast/daemon/config"
+	"holdfast/daemon/outbox"
 )
 
 // A reload applies alarms: and shelving: live (Engine.Replace keeps every
@@ -62,4 +63,28 @@ func (d *Daemon) swapAlarms(cfg *config.Config, defs []*alerts.Alarm) error {
 	}
 	d.alarms.SetShelfLimits(alerts.ShelfLimits{Default: cfg.Shelving.Default.D(), Max: cfg.Shelving.Max.D()})
 	return nil
+}
+
+// stopReminders ends every notifier's reminders about the alarms a reload
+// removed: no one can acknowledge them any more, so they would remind for
+// ever. Their queued notifications still go out.
+func (d *Daemon) stopReminders(removed []string) {
+	n := d.notifiers()
+	if n == nil || len(removed) == 0 {
+		return
+	}
+	err := n.ob.Update(func(t *outbox.Tx) error {
+		for _, s := range n.sinks {
+			for _, alarm := range removed {
+				if err := t.StopReminder(s.cfg.Name, alarm); err != nil {
+					return err
+				}
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		d.log.Warn("reminders about removed alarms not stopped",
+			"alarms", removed, "err", err)
+	}
 }

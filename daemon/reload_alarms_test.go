@@ -1,13 +1,17 @@
 package daemon
 
 import (
+	"io"
 	"net/http"
+	"net/http/httptest"
 	"reflect"
 	"slices"
 	"strconv"
 	"strings"
 	"testing"
 	"time"
+
+	bolt "go.etcd.io/bbolt"
 
 	"holdfast/alerts"
 	"holdfast/daemon/alarmstore"
@@ -298,4 +302,36 @@ func TestReloadAlarmsWithGauges(t *testing.T) {
 		t.Errorf("gauges after the reload: %v, want fore among them", d.GaugeNames())
 	}
 	waitAlarm(t, d, "fore-high", func(a AlarmJSON) bool { return a.State == "unacknowledged" })
+}
+
+// An unacknowledged alarm removed by a reload is no longer reminded of:
+// no one could acknowledge it any more.
+func TestReloadRemovedAlarmStopsItsReminders(t *testing.T) {
+	hook := httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) { io.Copy(io.Discard, r.Body) }))
+	defer hook.Close()
+	base := alarmReloadBase + `notify:
+  - name: hook
+    webhook: {url: "` + hook.URL + `/hook", secret_file: DIR/token}
+    group_wait: 0s
+    remind_every: 1h
+`
+	d, path := alarmDaemon(t, base)
+	reminded := func() bool {
+		var ok bool
+		d.store.Bolt().View(func(tx *bolt.Tx) error {
+			if b := tx.Bucket([]byte("notify-outbox")); b != nil {
+				if n := b.Bucket([]byte("hook")); n != nil && n.Bucket([]byte("r")) != nil {
+					ok = n.Bucket([]byte("r")).Get([]byte("rough")) != nil
+				}
+			}
+			return nil
+		})
+		return ok
+	}
+	waitFor(t, 10*time.Second, "a reminder schedule for rough", reminded)
+	reloadOK(t, d, path, strings.Replace(base, "  - {name: rough, gauge: pirani, above: 0.01 Pa, severity: high}\n", "", 1),
+		"alarms removed: rough")
+	if reminded() {
+		t.Error("the removed rough is still reminded of")
+	}
 }
