@@ -147,14 +147,18 @@ func TestReloadAddsAndRemovesAlarms(t *testing.T) {
 	// cdg reads at most atmosphere (about 101 kPa), always below 200 kPa.
 	reloadOK(t, d, path, strings.Replace(alarmReloadBase,
 		"  - {name: rough, gauge: pirani, above: 0.01 Pa, severity: high}\n",
-		"  - {name: fore, gauge: cdg, below: 200 kPa, severity: medium}\n", 1),
-		"alarms added: fore\nalarms removed: rough")
-	if _, names := alarmsNow(t, d); !slices.Equal(names, []string{"fore", "slow"}) {
-		t.Errorf("alarms after the reload: %v, want fore slow", names)
+		"  - {name: fore, gauge: cdg, below: 200 kPa, severity: medium}\n  - {name: writes, health: store_writes, severity: high}\n", 1),
+		"alarms added: fore, writes\nalarms removed: rough")
+	if _, names := alarmsNow(t, d); !slices.Equal(names, []string{"fore", "writes", "slow"}) {
+		t.Errorf("alarms after the reload: %v, want fore writes slow", names)
 	}
 	a := waitAlarm(t, d, "fore", func(a AlarmJSON) bool { return a.State == "unacknowledged" })
 	if a.Raised != 1 || a.Occurrence != 1 {
 		t.Errorf("fore raised %d times, occurrence %d; want 1 and 1 (a new alarm)", a.Raised, a.Occurrence)
+	}
+	// The daemon's own health reaches a health alarm every 10 s of its clock.
+	if w := waitAlarm(t, d, "writes", func(a AlarmJSON) bool { return a.Value != nil }); *w.Value != 0 || w.State != "normal" {
+		t.Errorf("writes: %+v; want normal, store writes working (0)", w)
 	}
 	m := scrapeText(t, d.Addr())
 	if strings.Contains(m, `alarm="rough"`) {
