@@ -170,6 +170,19 @@ func TestReloadAddsAndRemovesAlarms(t *testing.T) {
 	if evs := historyOf(t, d, "rough"); !slices.Equal(kindsOf(evs), []string{"raised"}) {
 		t.Errorf("history of the removed rough: %v, want its raise kept", kindsOf(evs))
 	}
+
+	// Removing the gauge fore watches, but not fore, is a problem of the
+	// file: nothing is applied.
+	writeConfig(t, path, strings.NewReplacer(
+		"  - {name: rough, gauge: pirani, above: 0.01 Pa, severity: high}\n", "  - {name: fore, gauge: cdg, below: 200 kPa, severity: medium}\n",
+		"  cdg: {link: bench, driver: sim, instrument: cdg, full_scale: 133 kPa, kind: pressure, interval: 1s}\n", "").Replace(alarmReloadBase))
+	code, out := postReload(t, d, reloadToken)
+	if code != http.StatusUnprocessableEntity || len(out.Problems) == 0 || out.Problems[0].Path != "alarms[0].gauge" {
+		t.Errorf("reload removing fore's gauge: status %d, %+v; want 422 naming alarms[0].gauge", code, out)
+	}
+	if _, names := alarmsNow(t, d); !slices.Equal(names, []string{"fore", "writes", "slow"}) || !slices.Contains(d.GaugeNames(), "cdg") {
+		t.Errorf("after the refused reload: alarms %v, gauges %v; want both as they were", names, d.GaugeNames())
+	}
 }
 
 // An active, acknowledged alarm whose limit a reload relaxes past the
