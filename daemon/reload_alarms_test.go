@@ -352,3 +352,16 @@ func TestReloadRemovedAlarmStopsItsReminders(t *testing.T) {
 		t.Error("the removed rough is still reminded of")
 	}
 }
+
+// An alarm whose gauge's unit a reload changes is built again in the new
+// unit, keeping its state: its limit now reads in mbar.
+func TestReloadGaugeUnitRebuildsItsAlarms(t *testing.T) {
+	d, path := alarmDaemon(t, alarmReloadBase)
+	before := alarmDef(d, "rough")
+	reloadOK(t, d, path, strings.Replace(alarmReloadBase, "instrument: pirani, kind: pressure,", "instrument: pirani, kind: pressure, unit: mbar,", 1),
+		"gauges changed: pirani")
+	a := waitAlarm(t, d, "rough", func(a AlarmJSON) bool { return strings.Contains(a.LimitText, "mbar") })
+	if a.State != "unacknowledged" || a.Raised != 1 || alarmDef(d, "rough") == before {
+		t.Errorf("rough after its gauge's unit changed: %+v; want built again, still unacknowledged, raised once", a)
+	}
+}
