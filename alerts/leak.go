@@ -67,6 +67,13 @@ type RiseOptions struct {
 	// KeepStart keeps a falling start that would otherwise be trimmed (a
 	// record that begins before the valve closed).
 	KeepStart bool
+	// ScaleUncertainty is the relative standard uncertainty (k = 1) of the
+	// gauge's pressure scale, as its calibration states it: a scale error
+	// carries into dp/dt in full, where an offset cancels. VolumeUncertainty
+	// is that of the isolated volume. Q = V·dp/dt is a product, so their
+	// squares add to the fit's relative one (JCGM 100:2008, GUM, §5.1.6).
+	// 0 means not known: the rates' uncertainties are then the fit's alone.
+	ScaleUncertainty, VolumeUncertainty float64
 }
 
 // Defaults of RiseOptions, and the fewest points for which the curved model
@@ -138,6 +145,11 @@ type RiseResult struct {
 	Fit RiseFit `json:"fit"`
 	// Volume is the isolated volume the rates were computed for, in m³.
 	Volume float64 `json:"volume_m3"`
+	// ScaleUncertainty and VolumeUncertainty are the relative standard
+	// uncertainties of RiseOptions taken into the rates' uncertainties and
+	// the upper bound (0: not known, not included).
+	ScaleUncertainty  float64 `json:"scale_relative_uncertainty"`
+	VolumeUncertainty float64 `json:"volume_relative_uncertainty"`
 	RiseQuality
 }
 

@@ -33,9 +33,18 @@ func AnalyzeRise(t, p []float64, volume float64, opt RiseOptions) (RiseResult, e
 	if err := checkRiseInput(t, p, volume); err != nil {
 		return RiseResult{}, err
 	}
+	for _, u := range []struct {
+		name string
+		v    float64
+	}{{"ScaleUncertainty", opt.ScaleUncertainty}, {"VolumeUncertainty", opt.VolumeUncertainty}} {
+		if !(u.v >= 0 && u.v < 1) {
+			return RiseResult{}, fmt.Errorf("rise options: %s %g is not a relative standard uncertainty from 0 to under 1 (0.01 is 1 %%)", u.name, u.v)
+		}
+	}
 	opt = opt.withDefaults()
 	rec := prepareRecord(t, p, opt)
-	res := RiseResult{Volume: volume, Classification: Inconclusive, RiseQuality: rec.quality(len(t))}
+	res := RiseResult{Volume: volume, Classification: Inconclusive, RiseQuality: rec.quality(len(t)),
+		ScaleUncertainty: opt.ScaleUncertainty, VolumeUncertainty: opt.VolumeUncertainty}
 	if why := rec.tooShort(opt); why != "" {
 		res.Reason = why
 		return res, nil
@@ -49,6 +58,7 @@ func AnalyzeRise(t, p []float64, volume float64, opt RiseOptions) (RiseResult, e
 	res.summarise()
 	if !res.finite() {
 		return RiseResult{Volume: volume, Classification: Inconclusive, RiseQuality: rec.quality(len(t)),
+			ScaleUncertainty: opt.ScaleUncertainty, VolumeUncertainty: opt.VolumeUncertainty,
 			Reason: "the fit failed: it gave values that are not finite numbers (record too ill-conditioned)"}, nil
 	}
 	return res, nil
@@ -269,10 +279,12 @@ func toSI(f normFit, cov *mat.SymDense, pRef, pScale, span float64) RiseFit {
 // summarise derives the rates, the rise and the classification from the fit.
 func (res *RiseResult) summarise() {
 	f, v, span := res.Fit, res.Volume, res.Span
-	res.LeakRate, res.LeakRateUncertainty = v*f.Slope, v*f.SlopeUncertainty
+	res.LeakRate = v * f.Slope
+	res.LeakRateUncertainty = res.withScaleAndVolume(res.LeakRate, v*f.SlopeUncertainty)
 	if f.Model == ModelCurved {
 		res.OutgassingRate = v * f.Curve / f.Tau
-		res.OutgassingRateUncertainty = v * f.spread([4]float64{0, 0, 1 / f.Tau, -f.Curve / (f.Tau * f.Tau)})
+		res.OutgassingRateUncertainty = res.withScaleAndVolume(res.OutgassingRate,
+			v*f.spread([4]float64{0, 0, 1 / f.Tau, -f.Curve / (f.Tau * f.Tau)}))
 	}
 	g0, gT := f.gradient(0), f.gradient(span)
 	for i := range gT {
@@ -284,9 +296,17 @@ func (res *RiseResult) summarise() {
 		res.LeakShare = linear / (linear + curved)
 	}
 	res.CoverageFactor, res.LeakRateExpanded = CoverageK, CoverageK*res.LeakRateUncertainty
-	rate, uRate := f.Rate(span), f.spread(f.rateGradient(span))
-	res.LeakUpperBound = max(v*(rate+CoverageK*uRate), 0)
+	rate, uRate := v*f.Rate(span), v*f.spread(f.rateGradient(span))
+	res.LeakUpperBound = max(rate+CoverageK*res.withScaleAndVolume(rate, uRate), 0)
 	res.classify()
+}
+
+// withScaleAndVolume combines a rate's standard uncertainty u from the fit
+// with the gauge scale's and the volume's relative ones: for Q = V·a the
+// relative squares add (JCGM 100:2008, §5.1.6, exponents 1).
+func (res *RiseResult) withScaleAndVolume(q, u float64) float64 {
+	rel := math.Hypot(res.ScaleUncertainty, res.VolumeUncertainty)
+	return math.Hypot(u, q*rel)
 }
 
 // rateGradient returns ∂(dp/dt)(t)/∂(P0, Slope, Curve, Tau).
@@ -314,6 +334,9 @@ func (res *RiseResult) classify() {
 		res.Reason = fmt.Sprintf("the linear term explains %.0f %% of the %.3g Pa rise", 100*res.LeakShare, rise)
 		if res.Fit.Model == ModelLine {
 			res.Reason += " (a straight line fits: no outgassing term needed)"
+			res.Notes = append(res.Notes, "a straight rise cannot tell a leak from outgassing that stays "+
+				"steady over the record: the leak term holds any such outgassing too, so the leak is at most "+
+				"that rate; a repeat after more pumping that gives the same rate confirms a leak")
 		}
 		if res.Fit.Slope < -riseCoverage*res.Fit.SlopeUncertainty {
 			res.Notes = append(res.Notes, "the linear term is negative: something removes gas (a pump, a "+

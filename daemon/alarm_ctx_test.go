@@ -2,6 +2,7 @@ package daemon
 
 import (
 	"context"
+	"holdfast/daemon/config"
 	"testing"
 )
 
@@ -36,4 +37,11 @@ func runInBackground(t *testing.T, d *Daemon) (stop func()) {
 			t.Errorf("Run: %v", err)
 		}
 	}
+}
+
+// newTestDaemon is a bare Daemon running cfg, for tests of one part.
+func newTestDaemon(cfg *config.Config) *Daemon {
+	d := &Daemon{}
+	d.cfgp.Store(cfg)
+	return d
 }

@@ -38,7 +38,7 @@ func demoAlarmRun(t *testing.T, upTo time.Duration, hook func(time.Time, *alerts
 	if err != nil {
 		t.Fatal(err)
 	}
-	d := &Daemon{cfg: cfg}
+	d := newTestDaemon(cfg)
 	e := alerts.NewEngine(d.limits())
 	if _, err := e.Attach(nil); err != nil {
 		t.Fatal(err)

@@ -22,7 +22,7 @@ func TestAlarmExampleHasEveryKind(t *testing.T) {
 			t.Errorf("alarms.yaml shows no %s alarm", k)
 		}
 	}
-	d := &Daemon{cfg: cfg}
+	d := newTestDaemon(cfg)
 	if n := len(d.limits()); n != len(cfg.Alarms) {
 		t.Errorf("built %d alarms from %d", n, len(cfg.Alarms))
 	}

@@ -65,7 +65,7 @@ type HoldTestJSON struct {
 
 // holdDefaults returns the hold-test alarm configured for gauge, if any.
 func (d *Daemon) holdDefaults(gauge string) *config.HoldTestConfig {
-	for _, a := range d.cfg.Alarms {
+	for _, a := range d.conf().Alarms {
 		if a.HoldTest != nil && a.Gauge == gauge {
 			return a.HoldTest
 		}
@@ -86,7 +86,7 @@ func (d *Daemon) startHoldTest(gauge string, settle, dur time.Duration, force bo
 // pressure still falls fast (startCheck). The alarms the test provokes are
 // suppressed by design until it is over.
 func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, scheduled, force bool) (HoldTestJSON, error) {
-	g := d.cfg.Gauges[gauge]
+	g := d.conf().Gauges[gauge]
 	if g == nil || g.Kind != "pressure" {
 		return HoldTestJSON{}, fmt.Errorf("gauge %q: want a configured pressure gauge", gauge)
 	}
@@ -138,9 +138,9 @@ func (d *Daemon) beginHoldTest(gauge string, settle, dur time.Duration, schedule
 
 func (d *Daemon) newHoldTest(id, gauge string, settle, dur time.Duration, scheduled bool) HoldTestJSON {
 	now := d.clock.Now()
-	h := HoldTestJSON{ID: id, Gauge: gauge, Chamber: d.cfg.Chamber.Name, State: holdSettling, Requested: now,
+	h := HoldTestJSON{ID: id, Gauge: gauge, Chamber: d.conf().Chamber.Name, State: holdSettling, Requested: now,
 		RecordFrom: now.Add(settle), RecordTo: now.Add(settle + dur), SettleSeconds: settle.Seconds(),
-		DurationSeconds: dur.Seconds(), VolumeM3: float64(d.cfg.Chamber.Volume), Valve: "manual", Unit: "mbar*L/s",
+		DurationSeconds: dur.Seconds(), VolumeM3: float64(d.conf().Chamber.Volume), Valve: "manual", Unit: "mbar*L/s",
 		Scheduled: scheduled}
 	if hc := d.holdDefaults(gauge); hc != nil {
 		h.AllowedLeak, h.Unit, h.Confirm = finite(float64(hc.AllowedLeak)), hc.Unit, hc.Confirm
@@ -284,9 +284,13 @@ func (d *Daemon) finishHoldTest(log *slog.Logger, h *HoldTestJSON, now time.Time
 		ev.Problems = append(ev.Problems, "the scheduled test started although "+c.Refusal)
 	}
 	h.Evidence = &ev
-	res, aerr := alerts.AnalyzeRise(ts, ps, h.VolumeM3, alerts.RiseOptions{})
+	opt, uNote := d.riseUncertainties(h.Gauge, ps)
+	res, aerr := alerts.AnalyzeRise(ts, ps, h.VolumeM3, opt)
 	if err == nil {
 		err = aerr
+	}
+	if aerr == nil && res.Classification != alerts.Inconclusive {
+		res.Notes = append(res.Notes, uNote)
 	}
 	if err != nil && len(ev.Problems) > 0 {
 		err = fmt.Errorf("%s (%w)", strings.Join(ev.Problems, "; "), err)

@@ -8,6 +8,7 @@ import (
 	"net/http"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -20,7 +21,7 @@ import (
 )
 
 const holdConfig = `
-chamber: {name: hold-bench, volume: 30 L}
+chamber: {name: hold-bench, volume: 30 L, volume_uncertainty: 5%}
 http: {listen: "127.0.0.1:0", token_file: TOKEN}
 store: {dir: DIR}
 links:
@@ -152,6 +153,13 @@ func TestHoldTestTightAndLeaking(t *testing.T) {
 			}
 			t.Logf("%s: Q = %.4g ± %.2g Pa·m³/s, %s, model %s, %d samples", h.Verdict, h.Result.LeakRate,
 				h.Result.LeakRateUncertainty, h.Result.Classification, h.Result.Fit.Model, h.Result.Samples)
+			// The chamber's volume is known to 5 % (k = 2): that alone
+			// makes U at least 5 % of Q, whatever the fit's scatter.
+			if r := h.Result; r.VolumeUncertainty != 0.025 || r.LeakRateExpanded < 0.05*r.LeakRate ||
+				!slices.ContainsFunc(r.Notes, func(n string) bool { return strings.Contains(n, "leaves out the gauge's scale") }) {
+				t.Errorf("volume u %g, U = %.3g for Q = %.3g, notes %q; want 0.025, U ≥ 5 %% of Q, and the scale said to be left out",
+					r.VolumeUncertainty, r.LeakRateExpanded, r.LeakRate, r.Notes)
+			}
 			if q := h.Result.LeakRate; math.Abs(q-c.q) > c.tol*c.q {
 				t.Errorf("leak rate %.4g Pa·m³/s (%s), want the simulated leak %g ± %.0f %%", q, h.Result.Classification, c.q, 100*c.tol)
 			}

@@ -55,7 +55,7 @@ notify:
 		t.Fatal(err)
 	}
 	d := testDaemon(t)
-	d.cfg = cfg
+	d.cfgp.Store(cfg)
 	if d.ntf, err = newNotifierSet(cfg, d.store.Bolt(), wallClock{}, slog.New(slog.DiscardHandler)); err != nil {
 		t.Fatal(err)
 	}

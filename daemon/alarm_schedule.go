@@ -24,7 +24,7 @@ type holdSchedule struct {
 // the same gauge keeps its next time.
 func (d *Daemon) holdSchedules(now time.Time, was []*holdSchedule) []*holdSchedule {
 	var out []*holdSchedule
-	for _, a := range d.cfg.Alarms {
+	for _, a := range d.conf().Alarms {
 		if a.HoldTest == nil || a.HoldTest.Schedule == nil {
 			continue
 		}

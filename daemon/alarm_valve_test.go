@@ -274,7 +274,7 @@ func TestScheduledHoldTestAndShutdown(t *testing.T) {
 	if w := p.log(); !slices.Equal(w, []string{"on", "off"}) {
 		t.Errorf("controller saw writes %v after the stop, want on then off", w)
 	}
-	db, err := store.Open(StorePath(d.cfg.Store.Dir), store.Options{ReadOnly: true})
+	db, err := store.Open(StorePath(d.conf().Store.Dir), store.Options{ReadOnly: true})
 	if err != nil {
 		t.Fatal(err)
 	}

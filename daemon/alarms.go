@@ -43,17 +43,13 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 		log.Info("new instance id for the data file; dedupe keys of new transitions start with it",
 			"instance", st.Instance(), "reason", st.Renewed())
 	}
-	d.liveMu.RLock() // notify reads cfg, which a reload swaps
 	for _, ev := range pending {
 		d.deliver(ev)
 	}
-	d.liveMu.RUnlock()
 	d.abortHoldTests(log, st, "the daemon stopped during the test (a crash, a kill or a power cut); its record is incomplete", false)
 	close(d.alarmsReady)
-	d.liveMu.RLock()
-	schedCfg := d.cfg
+	schedCfg := d.conf()
 	scheds := d.holdSchedules(d.clock.Now(), nil)
-	d.liveMu.RUnlock()
 	var lastHealth time.Time
 	var saveErr error
 	var dropped uint64
@@ -78,8 +74,8 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 			d.repeats.Flush()
 		}
 		d.holdTests(ctx, log, st, now)
-		if d.cfg != schedCfg { // reloaded
-			schedCfg, scheds = d.cfg, d.holdSchedules(now, scheds)
+		if cfg := d.conf(); cfg != schedCfg { // reloaded
+			schedCfg, scheds = cfg, d.holdSchedules(now, scheds)
 		}
 		d.runSchedules(log, scheds, now)
 		d.liveMu.RUnlock()
@@ -115,7 +111,7 @@ func (d *Daemon) observeHealth(log *slog.Logger, now time.Time) {
 	}
 	samples := map[string]float64{alerts.HealthStoreWrites: b2f(failing), alerts.HealthNotifyRefused: float64(d.refusedLately(now))}
 	var fs syscall.Statfs_t
-	if err := syscall.Statfs(d.cfg.Store.Dir, &fs); err == nil && fs.Blocks > 0 {
+	if err := syscall.Statfs(d.conf().Store.Dir, &fs); err == nil && fs.Blocks > 0 {
 		samples[alerts.HealthDiskFree] = float64(fs.Bavail) / float64(fs.Blocks)
 	}
 	for g, v := range samples {

@@ -16,6 +16,7 @@ type ambientComp struct {
 	a      calib.Ambient
 	from   *gauge
 	maxAge time.Duration
+	since  time.Time // when it was wired: the ambient gauge's first reading is awaited for maxAge
 
 	missing bool // last reading had no usable ambient (logged on change)
 }
@@ -36,7 +37,7 @@ func (d *Daemon) wireAmbient() error {
 			return fmt.Errorf("gauge %s: ambient.gauge %q was not built", g.name, a.Gauge)
 		}
 		g.amb = &ambientComp{a: calib.Ambient{Reference: float64(a.Reference), Zero: a.ZeroPerKelvin, Span: a.SpanPerKelvin},
-			from: src, maxAge: a.MaxAge.D()}
+			from: src, maxAge: a.MaxAge.D(), since: d.clock.Now()}
 	}
 	return nil
 }
@@ -53,12 +54,20 @@ func (c *ambientComp) compensate(log *slog.Logger, gauge string, raw float64, at
 		out, err = c.a.Apply(raw, v.last.Value)
 	}
 	ok := fresh && err == nil
-	if !ok && !c.missing {
-		log.Warn("ambient compensation not applied: no recent valid ambient temperature", "gauge", gauge, "ambient_gauge", c.from.name, "err", err)
-	} else if ok && c.missing {
+	// At the start every gauge polls at once: a gauge read before its
+	// ambient gauge's first answer is no news, until max_age has passed.
+	awaiting := !v.seen && at.Sub(c.since) <= c.maxAge
+	switch {
+	case !ok && !c.missing && !awaiting:
+		attrs := []any{"gauge", gauge, "ambient_gauge", c.from.name}
+		if err != nil {
+			attrs = append(attrs, "err", err)
+		}
+		log.Warn("ambient compensation not applied: no recent valid ambient temperature", attrs...)
+	case ok && c.missing:
 		log.Info("ambient compensation applied again", "gauge", gauge)
 	}
-	c.missing = !ok
+	c.missing = !ok && !awaiting
 	if !ok {
 		return raw, false
 	}

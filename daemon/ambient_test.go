@@ -1,6 +1,7 @@
 package daemon
 
 import (
+	"log/slog"
 	"math"
 	"strings"
 	"testing"
@@ -126,5 +127,26 @@ gauges:
 		if !strings.Contains(err.Error(), want) {
 			t.Errorf("problems lack %q:\n%v", want, err)
 		}
+	}
+}
+
+// At the start every gauge polls at once, so a gauge read before its
+// ambient gauge has answered is not news: nothing is logged until max_age
+// has passed without an ambient reading, then a warning once, and once
+// more only after the compensation came back and was lost again.
+func TestAmbientStartIsQuiet(t *testing.T) {
+	now := time.Now()
+	room := fakeGauge("room", time.Second, nil)
+	room.cfg.Kind = "temperature"
+	var logs strings.Builder
+	log := slog.New(slog.NewTextHandler(&logs, nil))
+	c := &ambientComp{a: calib.Ambient{Reference: 22, Zero: 0.01, Span: 0.002}, from: room, maxAge: time.Minute, since: now}
+	if _, ok := c.compensate(log, "pirani", 6.6, now.Add(time.Second)); ok || logs.Len() != 0 {
+		t.Errorf("before the ambient gauge's first answer: ok %v, logged %q; want raw, silently", ok, logs.String())
+	}
+	c.compensate(log, "pirani", 6.6, now.Add(61*time.Second))
+	c.compensate(log, "pirani", 6.6, now.Add(62*time.Second))
+	if n := strings.Count(logs.String(), "ambient compensation not applied"); n != 1 || strings.Contains(logs.String(), "err=") {
+		t.Errorf("past max_age with no ambient reading: %d warnings (%q); want one, with no empty err", n, logs.String())
 	}
 }

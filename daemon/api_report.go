@@ -48,7 +48,7 @@ func (d *Daemon) apiReport(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	w.Header().Set("Content-Type", report.ContentType(format))
-	w.Header().Set("Content-Disposition", `inline; filename="`+ReportFileName(d.cfg.Chamber.Name, to, format)+`"`)
+	w.Header().Set("Content-Disposition", `inline; filename="`+ReportFileName(d.conf().Chamber.Name, to, format)+`"`)
 	_, _ = w.Write(buf.Bytes())
 }
 
@@ -93,7 +93,7 @@ type ReportFileJSON struct {
 }
 
 func (d *Daemon) apiReports(w http.ResponseWriter, _ *http.Request) {
-	ents, err := os.ReadDir(d.cfg.ReportDir())
+	ents, err := os.ReadDir(d.conf().ReportDir())
 	if err != nil && !errors.Is(err, fs.ErrNotExist) {
 		apiError(w, http.StatusInternalServerError, err.Error())
 		return
@@ -118,7 +118,7 @@ func (d *Daemon) apiReportFile(w http.ResponseWriter, r *http.Request) {
 		apiError(w, http.StatusNotFound, "no report "+name+" (see /api/v1/reports)")
 		return
 	}
-	root, err := os.OpenRoot(d.cfg.ReportDir())
+	root, err := os.OpenRoot(d.conf().ReportDir())
 	if err != nil {
 		apiError(w, http.StatusNotFound, "no reports written yet")
 		return
@@ -136,9 +136,9 @@ func (d *Daemon) apiReportFile(w http.ResponseWriter, r *http.Request) {
 
 // reportLink is where a person finds a written report.
 func (d *Daemon) reportLink(name string) string {
-	listen := d.cfg.HTTP.Listen
+	listen := d.conf().HTTP.Listen
 	if d.ln != nil {
 		listen = d.Addr()
 	}
-	return d.cfg.ReportURL(listen) + "/api/v1/reports/" + name
+	return d.conf().ReportURL(listen) + "/api/v1/reports/" + name
 }

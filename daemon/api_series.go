@@ -73,7 +73,7 @@ func (d *Daemon) span(r *http.Request) (time.Time, time.Time, error) {
 // apiSeries answers GET /api/v1/series?gauge=G&from=T1&to=T2&points=N&format=json|csv
 // with each series reduced by store.Reduce, gaps marked (seriesio.Entry).
 func (d *Daemon) apiSeries(w http.ResponseWriter, r *http.Request) {
-	q := seriesio.Query{Kinds: GaugeKinds(d.cfg)}
+	q := seriesio.Query{Kinds: GaugeKinds(d.conf())}
 	var err error
 	if q.Series, err = d.pickSeries(r); err != nil {
 		apiError(w, http.StatusBadRequest, err.Error())
@@ -126,7 +126,7 @@ func (d *Daemon) apiExport(w http.ResponseWriter, r *http.Request) {
 		apiError(w, http.StatusBadRequest, err.Error())
 		return
 	}
-	e := seriesio.Export{Series: series, From: from, To: to, Format: r.URL.Query().Get("format"), Kinds: GaugeKinds(d.cfg)}
+	e := seriesio.Export{Series: series, From: from, To: to, Format: r.URL.Query().Get("format"), Kinds: GaugeKinds(d.conf())}
 	if e.Format == "" {
 		e.Format = "csv"
 	}

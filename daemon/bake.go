@@ -71,7 +71,7 @@ type BakeHoldTestJSON struct {
 
 // bakeAlarms builds the tracker for the bake plan and the alarms it adds.
 func (d *Daemon) bakeAlarms() []*alerts.Alarm {
-	b := d.cfg.Bake
+	b := d.conf().Bake
 	if b == nil {
 		return nil
 	}
@@ -153,7 +153,7 @@ func (d *Daemon) bakeSteps(log *slog.Logger, steps []alerts.BakeStep, rec alerts
 		msg := "bake " + string(step.Phase)
 		switch {
 		case step.Phase == alerts.BakeHold && step.At.Equal(rec.HoldDone):
-			msg = fmt.Sprintf("bake hold time of %s reached", d.cfg.Bake.HoldFor.D())
+			msg = fmt.Sprintf("bake hold time of %s reached", d.conf().Bake.HoldFor.D())
 		case step.Phase == alerts.BakeDone:
 			msg = "bake done"
 		}
@@ -190,8 +190,8 @@ func lastHoldTest(st *alarmstore.Store, t time.Time) *BakeHoldTestJSON {
 // bakeJSON turns a tracker record into its stored and served form; now
 // counts the elapsed time of a running bake.
 func (d *Daemon) bakeJSON(id string, r alerts.BakeRecord, now time.Time) BakeJSON {
-	b := d.cfg.Bake
-	j := BakeJSON{ID: id, Chamber: d.cfg.Chamber.Name, Phase: string(r.Phase), Start: r.Start, End: r.End, StartedBy: r.StartedBy,
+	b := d.conf().Bake
+	j := BakeJSON{ID: id, Chamber: d.conf().Chamber.Name, Phase: string(r.Phase), Start: r.Start, End: r.End, StartedBy: r.StartedBy,
 		HoldC: float64(b.Hold), ToleranceC: b.Resolved.Tolerance, HoldForSeconds: b.HoldFor.D().Seconds(),
 		StartC: num(r.StartTemp), MaxC: num(r.MaxTemp), MaxGauge: r.MaxGauge, MaxAt: r.MaxAt, AtTempSeconds: r.AtTemp.Seconds(),
 		HoldComplete: r.HoldDone, PressBeforePa: num(r.PressBefore), PressAfterPa: num(r.PressAfter), PressMaxPa: num(r.PressMax),

@@ -49,7 +49,8 @@ func playBake(t *testing.T, upTo, wallLag time.Duration) ([]alerts.Event, []Bake
 	}
 	defer db.Close()
 	cfg.Alarms = nil // only the bake plan's alarms: the others are tested elsewhere
-	d := &Daemon{cfg: cfg, store: db, clock: wallClock{}, emit: func(Event) {}}
+	d := &Daemon{store: db, clock: wallClock{}, emit: func(Event) {}}
+	d.cfgp.Store(cfg)
 	e := alerts.NewEngine(d.limits())
 	if _, err := e.Attach(nil); err != nil {
 		t.Fatal(err)

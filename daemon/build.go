@@ -16,16 +16,16 @@ import (
 func (d *Daemon) buildGauges() error {
 	var errs []error
 	byLink := map[string]*link{}
-	for _, name := range sortedKeys(d.cfg.Links) {
-		l, err := d.buildLink(name, d.cfg.Links[name])
+	for _, name := range sortedKeys(d.conf().Links) {
+		l, err := d.buildLink(name, d.conf().Links[name])
 		if err != nil {
 			errs = append(errs, fmt.Errorf("link %s: %w", name, err))
 			continue
 		}
 		byLink[name] = l
 	}
-	for _, name := range sortedKeys(d.cfg.Gauges) {
-		gc := d.cfg.Gauges[name]
+	for _, name := range sortedKeys(d.conf().Gauges) {
+		gc := d.conf().Gauges[name]
 		if len(gc.Combine) > 0 {
 			continue // virtual: built by buildCombined
 		}
@@ -71,7 +71,7 @@ func (d *Daemon) buildLink(name string, lc *config.LinkConfig) (*link, error) {
 	l := &link{name: name}
 	switch {
 	case lc.Simulator != nil:
-		ch, err := sim.New(simConfig(d.cfg, lc.Simulator), d.clock.Now)
+		ch, err := sim.New(simConfig(d.conf(), lc.Simulator), d.clock.Now)
 		if err != nil {
 			return nil, err
 		}
@@ -284,7 +284,7 @@ func (d *Daemon) simInstrument(l *link, name string, gc *config.GaugeConfig) (*s
 func simInstrument(name string, gc *config.GaugeConfig) sim.InstrumentConfig {
 	return sim.InstrumentConfig{
 		Name: name, Kind: gc.Instrument, Digits: gc.Digits, FullScale: float64(gc.FullScale),
-		Where: gc.Where, Protect: float64(gc.Protect), Probe: simProbe(gc.Probe),
+		Where: gc.Where, Protect: float64(gc.Protect), Probe: simProbe(gc.Probe), Noise: gc.Noise,
 		Timeout: time.Hour, // a silent instrument waits for the daemon's own read timeout
 	}
 }

@@ -12,7 +12,7 @@ import (
 // the seam daemon.New calls.)
 func (d *Daemon) limits() []*alerts.Alarm {
 	var out []*alerts.Alarm
-	for _, a := range d.cfg.Alarms {
+	for _, a := range d.conf().Alarms {
 		out = append(out, d.configAlarm(a))
 	}
 	return append(out, d.bakeAlarms()...)
@@ -32,7 +32,7 @@ func (d *Daemon) configAlarm(a *config.AlarmConfig) *alerts.Alarm {
 }
 
 func (d *Daemon) gaugeUnit(name string) calib.Unit {
-	g := d.cfg.Gauges[name]
+	g := d.conf().Gauges[name]
 	if g == nil {
 		return calib.Unit{}
 	}
@@ -51,7 +51,8 @@ func (d *Daemon) rule(a *config.AlarmConfig) alerts.Rule {
 		rw := a.RiseWatch
 		u, _ := calib.ParseUnit(rw.Unit, calib.Throughput)
 		return &alerts.RiseWatch{Gauge: a.Gauge, Window: rw.Window.D(), Every: rw.Every.D(), MaxLeak: float64(rw.MaxLeak),
-			Volume: float64(d.cfg.Chamber.Volume), Always: rw.While.Mode == "always", IsolatedBy: rw.While.Gauge, Unit: u}
+			Volume: float64(d.conf().Chamber.Volume), Options: alerts.RiseOptions{VolumeUncertainty: float64(d.conf().Chamber.VolumeUncertainty) / alerts.CoverageK},
+			Always: rw.While.Mode == "always", IsolatedBy: rw.While.Gauge, Unit: u}
 	case "stale":
 		return &alerts.Stale{Gauge: a.Gauge, After: a.Stale.D()}
 	case "fault":
@@ -62,7 +63,7 @@ func (d *Daemon) rule(a *config.AlarmConfig) alerts.Rule {
 	case "pump_down":
 		p := a.PumpDown
 		return &alerts.PumpDeadline{Gauge: a.Gauge, Start: float64(p.Start), Target: float64(p.Target), Within: p.Within.D(),
-			Guide: alerts.PumpDown{Volume: float64(d.cfg.Chamber.Volume), Speed: float64(p.Speed)}, Unit: unit}
+			Guide: alerts.PumpDown{Volume: float64(d.conf().Chamber.Volume), Speed: float64(p.Speed)}, Unit: unit}
 	case "hold_test":
 		u, _ := calib.ParseUnit(a.HoldTest.Unit, calib.Throughput)
 		return &alerts.HoldTest{Gauge: a.Gauge, Allowed: float64(a.HoldTest.AllowedLeak), Unit: u}

@@ -161,7 +161,8 @@ func TestCalibrationEdgeKeepsGaugeReading(t *testing.T) {
 	// 0.4 Pa. One sample's noise there is about 0.02 Pa (the simulator's
 	// 0.02 Pa floor): 25 % is over four standard deviations.
 	n, sum := 0, 0.0
-	d.store.Range("foreline", from, clk.Now(), func(p store.Point) bool {
+	to := clk.Now()
+	d.store.Range("foreline", from, to, func(p store.Point) bool {
 		n++
 		if q := calib.Quality(p.Quality); q != calib.QualityExtrapolated || math.Abs(p.Value-0.4) > 0.1 || p.Calibration != rec.ID {
 			t.Errorf("foreline at %s: %g Pa, %s, calibration %d; want about 0.4 Pa, extrapolated, %d", p.At.Format(time.TimeOnly), p.Value, q, p.Calibration, rec.ID)
@@ -170,8 +171,11 @@ func TestCalibrationEdgeKeepsGaugeReading(t *testing.T) {
 		sum += p.Value
 		return true
 	})
-	if n < 100 || math.Abs(sum/float64(n)-0.4) > 0.01 {
-		t.Errorf("foreline: %d samples averaging %g Pa; want over 100 (5 min at 1 s) near 0.4 Pa", n, sum/float64(n))
+	// A blanked gauge stores none; a loaded machine may skip some polls of
+	// the fast clock, so half the window's 1 s polls will do.
+	if polls := to.Sub(from).Seconds(); float64(n) < polls/2 || math.Abs(sum/float64(n)-0.4) > 0.01 {
+		t.Errorf("foreline: %d samples averaging %g Pa over %.0f s; want at least %.0f (half the 1 s polls) near 0.4 Pa",
+			n, sum/float64(n), polls, polls/2)
 	}
 	// The combined gauge follows the Pirani, marked; never over-range. (On
 	// a loaded machine the fast clock can leave a member stale for a poll;

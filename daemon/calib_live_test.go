@@ -333,8 +333,16 @@ func liveActivateAndReprocess(t *testing.T, b *liveBench, first calibJSON, inPoi
 	if v.last.Value != applied || math.Abs(v.last.Value/builtin-1.7) > 0.05 {
 		t.Errorf("live value %g Pa for raw %g; want the new version's %g, 1.7 × the instrument's %g", v.last.Value, v.last.Raw, applied, builtin)
 	}
+	// The check needs a stored sample: on a loaded machine the poller may
+	// not have stored one yet, so wait (in wall time) until it has.
 	var last store.Point
-	b.d.store.Range("pirani", after.Add(time.Second), b.clock.Now(), func(p store.Point) bool { last = p; return true })
+	found := false
+	for end := time.Now().Add(10 * time.Second); !found && time.Now().Before(end); time.Sleep(20 * time.Millisecond) {
+		b.d.store.Range("pirani", after.Add(time.Second), b.clock.Now(), func(p store.Point) bool { last, found = p, true; return true })
+	}
+	if !found {
+		t.Fatal("no sample stored since the activation")
+	}
 	if last.Calibration != second.ID {
 		t.Errorf("sample stored after activation carries calibration %d; want %d", last.Calibration, second.ID)
 	}

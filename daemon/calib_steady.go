@@ -19,6 +19,13 @@ const (
 	defaultMaxDrift    = 0.005
 )
 
+// driftSEs is how many standard errors a drift must stand out of the noise
+// to refuse a point. At 2 a gauge holding still, whose noise reaches the
+// limit, would be refused about one point in twenty (a normal variable
+// passes ±2σ with probability 4.6 %); at 3, about one in 370 (0.27 %;
+// common practice for "out of the noise", as the leak analysis uses).
+const driftSEs = 3
+
 // steadiness is what a window of samples says about a gauge holding still.
 // The trend is the least-squares line through the samples; drift is the
 // change of that line across the window relative to the mean.
@@ -79,15 +86,15 @@ func halfSlope(t, y []float64, lo, hi float64) (float64, bool) {
 
 // check refuses a window that is not steady enough for a calibration
 // point, saying how much it drifts and how long to wait. A drift over the
-// limit counts only when it stands out of the noise (beyond two standard
-// errors): a drift hidden in the noise moves the mean by about as much as
-// the noise itself does, and the point records both.
+// limit counts only when it stands out of the noise, beyond driftSEs
+// standard errors: a drift hidden in the noise moves the mean by about as
+// much as the noise itself does, and the point records both.
 func (s steadiness) check(limit float64, window time.Duration) error {
 	pct := func(x float64) string { return fmt.Sprintf("%+.3g %%", 100*x) }
 	switch {
 	case s.n < minWindowSamples:
 		return refuse("only %d usable samples in the last %s; need %d: wait, or use a longer window", s.n, window, minWindowSamples)
-	case math.Abs(s.drift) > limit && math.Abs(s.drift) > 2*s.driftSE:
+	case math.Abs(s.drift) > limit && math.Abs(s.drift) > driftSEs*s.driftSE:
 		msg := fmt.Sprintf("still drifting: the reading changed %s over the last %s (limit %.3g %%)", pct(s.drift), window, 100*limit)
 		if s.tau > 0 {
 			wait := time.Duration(float64(s.tau) * math.Log(math.Abs(s.drift)/limit))

@@ -95,3 +95,25 @@ func TestSteadinessNoise(t *testing.T) {
 		t.Errorf("check with 3 samples = %v; want too few samples", err)
 	}
 }
+
+// A drift over the limit is refused only beyond three standard errors: a
+// steady noisy gauge whose trend estimate lands 2.5 SE out (which happens
+// to about one window in 80 by chance, 1.2 % for a normal variable) gives
+// its point; one 3.3 SE out is refused.
+func TestDriftMustStandOutThreeSE(t *testing.T) {
+	const limit = 0.005
+	for _, c := range []struct {
+		drift, se float64
+		refused   bool
+	}{
+		{0.01, 0.004, false},   // 2.5 SE
+		{-0.01, 0.004, false},  // the sign does not matter
+		{0.01, 0.003, true},    // 3.3 SE
+		{0.004, 0.0001, false}, // 40 SE but within the limit
+	} {
+		err := steadiness{n: 60, mean: 20, drift: c.drift, driftSE: c.se}.check(limit, time.Minute)
+		if (err != nil) != c.refused {
+			t.Errorf("drift %g with SE %g: %v, want refused %v", c.drift, c.se, err, c.refused)
+		}
+	}
+}

@@ -17,8 +17,8 @@ import (
 // treat it like any other; its samples are stored under its own name.
 func (d *Daemon) buildCombined() error {
 	var errs []error
-	for _, name := range sortedKeys(d.cfg.Gauges) {
-		gc := d.cfg.Gauges[name]
+	for _, name := range sortedKeys(d.conf().Gauges) {
+		gc := d.conf().Gauges[name]
 		if len(gc.Combine) == 0 {
 			continue
 		}

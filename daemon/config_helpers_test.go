@@ -45,7 +45,7 @@ alarms:
 	if err != nil {
 		t.Fatal(err)
 	}
-	d := &Daemon{cfg: cfg}
+	d := newTestDaemon(cfg)
 	rw := d.limits()[1].Rule
 	if g := rw.Gauges(); len(g) != 2 || g[1] != "valve-closed" {
 		t.Errorf("rise watch reads %v, want ion and the valve-closed switch", g)

@@ -53,9 +53,14 @@ type Options struct {
 	EventsShown bool
 }
 
+// conf returns the running config. A reload swaps in a new one whose
+// parts other than links, gauges, alarms and shelving are the same, so a
+// caller may keep the pointer for one piece of work.
+func (d *Daemon) conf() *config.Config { return d.cfgp.Load() }
+
 // A Daemon polls every gauge of one config and serves what it reads.
 type Daemon struct {
-	cfg         *config.Config
+	cfgp        atomic.Pointer[config.Config] // the running config; a reload swaps it (see conf)
 	log         *slog.Logger
 	clock       Clock
 	emit        func(Event)
@@ -84,7 +89,7 @@ type Daemon struct {
 	flushMu  sync.Mutex
 	flushErr error
 
-	// Reload (reload.go): Run swaps cfg, links, gauges and the engine's
+	// Reload (reload.go): Run swaps cfgp, links, gauges and the engine's
 	// alarms under liveMu, which HTTP handlers and the daemon's loops hold
 	// while they read them; pollers are stopped across a swap of gauges.
 	file     string // the config file, read again by Reload
@@ -101,8 +106,9 @@ func StorePath(dir string) string { return filepath.Join(dir, "holdfast.db") }
 // New builds a daemon: it opens the store and the links' drivers and binds
 // the HTTP listener, so that every startup problem is reported before Run.
 func New(cfg *config.Config, opt Options) (_ *Daemon, err error) {
-	d := &Daemon{cfg: cfg, log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, eventsShown: opt.EventsShown, alarmsReady: make(chan struct{}),
+	d := &Daemon{log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, eventsShown: opt.EventsShown, alarmsReady: make(chan struct{}),
 		file: cfg.File, reloads: make(chan reloadRequest), reloadOK: &reloadStatus{ok: true, at: time.Now()}}
+	d.cfgp.Store(cfg)
 	if d.log == nil {
 		d.log = slog.New(slog.DiscardHandler)
 	}
@@ -202,7 +208,7 @@ func (d *Daemon) Run(parent context.Context) error {
 	wg.Go(func() { d.systemdLoop(ctx) })
 	wg.Go(func() { d.reportLoop(ctx) })
 	wg.Go(func() { d.rw.run(ctx) })
-	d.log.Info("daemon started", "chamber", d.cfg.Chamber.Name, "gauges", len(d.gauges), "listen", d.Addr())
+	d.log.Info("daemon started", "chamber", d.conf().Chamber.Name, "gauges", len(d.gauges), "listen", d.Addr())
 	for running := true; running; {
 		select {
 		case <-ctx.Done():
@@ -233,10 +239,7 @@ func (d *Daemon) Run(parent context.Context) error {
 }
 
 func (d *Daemon) flushLoop(ctx context.Context) {
-	d.liveMu.RLock() // a reload may swap cfg already
-	every := d.cfg.Store.FlushEvery.D()
-	d.liveMu.RUnlock()
-	t := time.NewTicker(every)
+	t := time.NewTicker(d.conf().Store.FlushEvery.D())
 	defer t.Stop()
 	for {
 		select {

@@ -94,10 +94,14 @@ func TestDaemonEndToEnd(t *testing.T) {
 	if len(first) < 2 {
 		t.Fatalf("want two pressure series, got %v", first)
 	}
-	time.Sleep(500 * time.Millisecond) // 100 s simulated
+	time.Sleep(500 * time.Millisecond) // 100 s simulated, or more on a loaded machine
 	second := scrape(t, d.Addr())
 	for g, p1 := range first {
-		if p2, ok := second[g]; !ok || !(p2 < p1) {
+		// A gauge whose pressure fell below its range (the capacitance
+		// gauge, when the test is scheduled late) exports no value; its
+		// quality says under-range, which is falling too.
+		below := scrapeLine(t, d.Addr(), `holdfast_sensor_quality{gauge="`+g+`",quality="under-range"} 1`) != ""
+		if p2, ok := second[g]; !below && (!ok || !(p2 < p1)) {
 			t.Errorf("gauge %s: pressure %g then %g; want it falling during the pump-down", g, p1, p2)
 		}
 	}

@@ -28,7 +28,7 @@ notify:
 		t.Fatal(err)
 	}
 	d := testDaemon(t, fakeGauge("p", time.Second, nil))
-	d.cfg = cfg
+	d.cfgp.Store(cfg)
 	openSet := func(name string) (*notifierSet, *bolt.DB) {
 		db, err := bolt.Open(filepath.Join(t.TempDir(), name), 0o600, nil)
 		if err != nil {

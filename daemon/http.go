@@ -42,7 +42,7 @@ func (d *Daemon) handler() http.Handler {
 // (chunked) is read here, up to the cap, before its handler sees it. Every
 // body the API takes is small JSON, so holding it is cheap.
 func (d *Daemon) limitBody(h http.Handler) http.Handler {
-	limit := d.cfg.HTTP.MaxBodyBytes
+	limit := d.conf().HTTP.MaxBodyBytes
 	if limit <= 0 {
 		limit = config.DefaultMaxBodyBytes
 	}
@@ -75,7 +75,7 @@ func (d *Daemon) limitBody(h http.Handler) http.Handler {
 // metricsAuth guards /metrics when http.metrics_auth is set: basic auth
 // or a bearer token, both compared in constant time.
 func (d *Daemon) metricsAuth(h http.Handler) http.Handler {
-	m := d.cfg.HTTP.MetricsAuth
+	m := d.conf().HTTP.MetricsAuth
 	if m == nil {
 		return h
 	}
@@ -170,7 +170,7 @@ func (d *Daemon) landing(w http.ResponseWriter, _ *http.Request) {
 	w.Header().Set("Content-Type", "text/html; charset=utf-8")
 	fmt.Fprintf(w, `<!doctype html><title>holdfast: %[1]s</title><h1>holdfast: %[1]s</h1>
 <p><a href="/metrics">/metrics</a> · <a href="/api/v1/gauges">/api/v1/gauges</a> · <a href="/healthz">/healthz</a></p>
-<p>A monitoring aid, not a safety interlock.</p>`, html.EscapeString(d.cfg.Chamber.Name))
+<p>A monitoring aid, not a safety interlock.</p>`, html.EscapeString(d.conf().Chamber.Name))
 }
 
 // changes wraps a handler that changes state (ack, shelve, activate a

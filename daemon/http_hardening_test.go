@@ -164,8 +164,8 @@ func TestHTTPTLSServesAndReloadsCertificate(t *testing.T) {
 
 	// The commands dial it trusting exactly cert_file, whatever its names.
 	pinned := func() error {
-		c := &http.Client{Transport: &http.Transport{DisableKeepAlives: true, TLSClientConfig: d.cfg.HTTP.ClientTLS()}}
-		resp, err := c.Get(d.cfg.HTTP.Scheme() + "://" + d.Addr() + "/healthz")
+		c := &http.Client{Transport: &http.Transport{DisableKeepAlives: true, TLSClientConfig: d.conf().HTTP.ClientTLS()}}
+		resp, err := c.Get(d.conf().HTTP.Scheme() + "://" + d.Addr() + "/healthz")
 		if err == nil {
 			resp.Body.Close()
 		}

@@ -84,7 +84,7 @@ func (r *certReloader) GetCertificate(*tls.ClientHelloInfo) (*tls.Certificate, e
 
 // listen opens http.listen, under TLS when http.tls is set.
 func (d *Daemon) listen() (net.Listener, error) {
-	h := d.cfg.HTTP
+	h := d.conf().HTTP
 	var tcfg *tls.Config
 	if h.TLS != nil {
 		r, err := newCertReloader(h.TLS.CertFile, h.TLS.KeyFile, d.log.With("part", "http"))
@@ -106,7 +106,7 @@ func (d *Daemon) listen() (net.Listener, error) {
 // server is the HTTP server with the configured timeouts; a zero timeout
 // (a config not passed through the checker) takes the default.
 func (d *Daemon) server(h http.Handler) *http.Server {
-	t := d.cfg.HTTP.Timeouts
+	t := d.conf().HTTP.Timeouts
 	or := func(v config.Duration, def time.Duration) time.Duration {
 		if v > 0 {
 			return v.D()

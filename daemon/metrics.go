@@ -31,7 +31,7 @@ func newMetrics(d *Daemon) *metrics {
 	for _, g := range d.gauges {
 		m.polls.WithLabelValues(g.name)
 		m.skipped.WithLabelValues(g.name)
-		for _, r := range []string{"no-reply", "bad-reply", "link"} {
+		for _, r := range pollFailReasons {
 			m.pollErrors.WithLabelValues(g.name, r)
 		}
 	}

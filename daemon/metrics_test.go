@@ -82,7 +82,7 @@ func TestAPIGaugesWithNaNRaw(t *testing.T) {
 // so (503), holdfast_alarms_up is 0, and hold tests are refused.
 func TestAlarmsDownIsVisible(t *testing.T) {
 	d := testDaemon(t, fakeGauge("p", time.Second, nil))
-	d.cfg.Gauges = map[string]*config.GaugeConfig{"p": {Kind: "pressure"}}
+	d.conf().Gauges = map[string]*config.GaugeConfig{"p": {Kind: "pressure"}}
 	err := errors.New("alarm bucket unreadable")
 	d.alarmsDown.Store(&err)
 	rec := httptest.NewRecorder()

@@ -19,7 +19,7 @@ func (d *Daemon) notify(ev alerts.Event) error {
 	if n == nil {
 		return nil
 	}
-	tr, ok := transitionOf(d.cfg.Chamber.Name, ev)
+	tr, ok := transitionOf(d.conf().Chamber.Name, ev)
 	if !ok {
 		return nil
 	}
@@ -35,7 +35,7 @@ func (d *Daemon) notify(ev alerts.Event) error {
 // Alertmanagers, and sends reminders, until ctx is done. It returns once
 // every send in flight has been cut short.
 func (d *Daemon) notifyLoop(ctx context.Context) {
-	d.liveMu.RLock() // notifiers read d.cfg, which a reload swaps
+	d.liveMu.RLock() // the set is built once, from the running config
 	n := d.notifiers()
 	d.liveMu.RUnlock()
 	if n == nil {
@@ -107,7 +107,7 @@ func (d *Daemon) activeAlarms() []notify.Transition {
 	var out []notify.Transition
 	for _, s := range d.Alarms() {
 		if s.Active {
-			out = append(out, notify.Transition{Chamber: d.cfg.Chamber.Name, Alarm: s.Alarm, Gauge: s.Gauge,
+			out = append(out, notify.Transition{Chamber: d.conf().Chamber.Name, Alarm: s.Alarm, Gauge: s.Gauge,
 				Severity: string(s.Severity), Event: "raised", State: notify.StateUnacknowledged, At: s.Since, Since: s.Since,
 				Message: s.Alarm + " active since " + s.Since.UTC().Format(time.RFC3339)})
 		}

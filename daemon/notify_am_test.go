@@ -99,7 +99,8 @@ notify:
 		t.Fatal(err)
 	}
 	n.sinks[0].am.Client = &http.Client{Transport: am}
-	d := &Daemon{cfg: cfg, clock: clk, log: slog.New(slog.DiscardHandler), ntf: n, emit: func(Event) {}}
+	d := &Daemon{clock: clk, log: slog.New(slog.DiscardHandler), ntf: n, emit: func(Event) {}}
+	d.cfgp.Store(cfg)
 	d.alarms = alerts.NewEngine(d.limits())
 	if _, err := d.alarms.Attach(nil); err != nil {
 		t.Fatal(err)

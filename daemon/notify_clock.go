@@ -52,7 +52,7 @@ func (d *Daemon) daemonURL(configured string) string {
 	if configured != "" {
 		return strings.TrimSuffix(configured, "/")
 	}
-	addr := d.cfg.HTTP.Listen
+	addr := d.conf().HTTP.Listen
 	if d.ln != nil {
 		addr = d.ln.Addr().String()
 	}
@@ -65,5 +65,5 @@ func (d *Daemon) daemonURL(configured string) string {
 			host = name
 		}
 	}
-	return d.cfg.HTTP.Scheme() + "://" + net.JoinHostPort(host, port)
+	return d.conf().HTTP.Scheme() + "://" + net.JoinHostPort(host, port)
 }

@@ -24,7 +24,7 @@ func (d *Daemon) refusedLately(now time.Time) int {
 		return 0
 	}
 	self := map[string]bool{}
-	for _, a := range d.cfg.Alarms {
+	for _, a := range d.conf().Alarms {
 		if a != nil && a.Health == "notify_refused" {
 			self[a.Name] = true
 		}

@@ -39,13 +39,13 @@ type sink struct {
 // New builds them; a Daemon assembled by hand (in tests) builds them on
 // first use.
 func (d *Daemon) notifiers() *notifierSet {
-	if len(d.cfg.Notify) == 0 {
+	if len(d.conf().Notify) == 0 {
 		return nil
 	}
 	d.ntfMu.Lock()
 	defer d.ntfMu.Unlock()
 	if d.ntf == nil {
-		n, err := newNotifierSet(d.cfg, d.store.Bolt(), d.clock, d.log.With("part", "notify"))
+		n, err := newNotifierSet(d.conf(), d.store.Bolt(), d.clock, d.log.With("part", "notify"))
 		if err != nil {
 			d.log.Error("notifiers not started; alarms will not be sent", "err", err)
 			return nil

@@ -281,9 +281,17 @@ func (d *Daemon) pollFailed(log *slog.Logger, g *gauge, err error) {
 	}
 }
 
+// pollFailReasons are the reason labels of holdfast_poll_errors_total.
+var pollFailReasons = []string{"no-reply", "bad-reply", "link", "wrong-instrument"}
+
+// failReason is the reason label of a failed poll: a link down because its
+// identity check failed is "wrong-instrument" (something answers, but not
+// the instrument configured), any other link failure "link".
 func failReason(err error) string {
 	var ge *drivers.GaugeError
 	switch {
+	case errors.Is(err, drivers.ErrWrongInstrument):
+		return "wrong-instrument"
 	case errors.Is(err, drivers.ErrNoReply), errors.Is(err, context.DeadlineExceeded):
 		return "no-reply"
 	case errors.As(err, &ge) && strings.Contains(ge.Op, "parse"):

@@ -45,8 +45,9 @@ func testDaemon(t *testing.T, gauges ...*gauge) *Daemon {
 		t.Fatal(err)
 	}
 	t.Cleanup(func() { db.Close() })
-	d := &Daemon{cfg: &config.Config{}, log: slog.New(slog.DiscardHandler), clock: wallClock{}, emit: func(Event) {},
+	d := &Daemon{log: slog.New(slog.DiscardHandler), clock: wallClock{}, emit: func(Event) {},
 		store: db, gauges: gauges, alarms: alerts.NewEngine(nil)}
+	d.cfgp.Store(&config.Config{})
 	d.met = newMetrics(d)
 	return d
 }

@@ -45,7 +45,8 @@ func OpenProbe(cfg *config.Config, name string, log *slog.Logger, trace func(dir
 	if log == nil {
 		log = slog.New(slog.DiscardHandler)
 	}
-	d := &Daemon{cfg: cfg, log: log, clock: wallClock{}, emit: func(Event) {}, trace: trace}
+	d := &Daemon{log: log, clock: wallClock{}, emit: func(Event) {}, trace: trace}
+	d.cfgp.Store(cfg)
 	l, err := d.buildLink(gc.Link, cfg.Links[gc.Link])
 	if err != nil {
 		return nil, fmt.Errorf("link %s: %w", gc.Link, err)

@@ -126,7 +126,7 @@ func (d *Daemon) startPollers(ctx context.Context) *pollers {
 // neither), closes the connections no longer used and starts the new
 // pollers. On any error the old config and its pollers keep running.
 func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*pollers, config.Changes, error) {
-	ch := config.Diff(d.cfg, cfg)
+	ch := config.Diff(d.conf(), cfg)
 	if keys := restartKeys(ch); len(keys) > 0 {
 		return old, ch, &ReloadError{Restart: keys}
 	}
@@ -167,7 +167,7 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 	if nd != nil {
 		oldLinks = d.swapGauges(nd)
 	}
-	d.cfg = cfg
+	d.cfgp.Store(cfg)
 	d.liveMu.Unlock()
 	d.stopReminders(ch.Alarms.Removed)
 	if nd == nil {
@@ -188,8 +188,9 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 // running connections of the links that do not change and the drivers of
 // the gauges that do not change.
 func (d *Daemon) buildReloaded(cfg *config.Config, ch config.Changes) (*Daemon, error) {
-	nd := &Daemon{cfg: cfg, log: d.log, clock: d.clock, emit: d.emit, store: d.store, trace: d.trace,
+	nd := &Daemon{log: d.log, clock: d.clock, emit: d.emit, store: d.store, trace: d.trace,
 		reuse: map[string]*link{}, prev: map[string]*gauge{}}
+	nd.cfgp.Store(cfg)
 	for _, l := range d.links {
 		if !slices.Contains(ch.Links.Changed, l.name) && cfg.Links[l.name] != nil {
 			nd.reuse[l.name] = l
@@ -281,7 +282,7 @@ func (m *metrics) gaugesChanged(old, new []*gauge) {
 		if !slices.ContainsFunc(new, func(n *gauge) bool { return n.name == g.name }) {
 			m.polls.DeleteLabelValues(g.name)
 			m.skipped.DeleteLabelValues(g.name)
-			for _, r := range []string{"no-reply", "bad-reply", "link"} {
+			for _, r := range pollFailReasons {
 				m.pollErrors.DeleteLabelValues(g.name, r)
 			}
 		}
@@ -289,7 +290,7 @@ func (m *metrics) gaugesChanged(old, new []*gauge) {
 	for _, g := range new {
 		m.polls.WithLabelValues(g.name)
 		m.skipped.WithLabelValues(g.name)
-		for _, r := range []string{"no-reply", "bad-reply", "link"} {
+		for _, r := range pollFailReasons {
 			m.pollErrors.WithLabelValues(g.name, r)
 		}
 	}

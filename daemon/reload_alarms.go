@@ -23,7 +23,8 @@ func liveKey(key string) bool { return key == "shelving" || strings.HasPrefix(ke
 // reloadAlarms returns the alarms the engine is to run under cfg, or nil
 // when they are the ones it runs.
 func (d *Daemon) reloadAlarms(cfg *config.Config, ch config.Changes) []*alerts.Alarm {
-	nd := &Daemon{cfg: cfg}
+	nd := &Daemon{}
+	nd.cfgp.Store(cfg)
 	running := make(map[string]*alerts.Alarm, len(d.alarmDefs))
 	for _, a := range d.alarmDefs {
 		running[a.Name] = a
@@ -40,7 +41,7 @@ func (d *Daemon) reloadAlarms(cfg *config.Config, ch config.Changes) []*alerts.A
 		differs = true
 	}
 	for _, a := range d.alarmDefs {
-		if !slices.ContainsFunc(d.cfg.Alarms, func(c *config.AlarmConfig) bool { return c.Name == a.Name }) {
+		if !slices.ContainsFunc(d.conf().Alarms, func(c *config.AlarmConfig) bool { return c.Name == a.Name }) {
 			out = append(out, a) // the bake's
 		}
 	}

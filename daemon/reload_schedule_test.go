@@ -40,7 +40,7 @@ func TestReloadKeepsHoldSchedules(t *testing.T) {
 		}
 		return cfg
 	}
-	d := &Daemon{cfg: parse(scheduleYAML)}
+	d := newTestDaemon(parse(scheduleYAML))
 	at := func(hms string) time.Time {
 		v, err := time.Parse(time.RFC3339, "2031-05-06T"+hms+"Z")
 		if err != nil {
@@ -52,11 +52,11 @@ func TestReloadKeepsHoldSchedules(t *testing.T) {
 	if len(s) != 1 || !s[0].next.Equal(at("06:00:00")) {
 		t.Fatalf("schedules at 01:00: %+v; want one due at 06:00", s)
 	}
-	d.cfg = parse(scheduleYAML)
+	d.cfgp.Store(parse(scheduleYAML))
 	if k := d.holdSchedules(at("06:00:30"), s); len(k) != 1 || !k[0].next.Equal(at("06:00:00")) {
 		t.Errorf("unchanged schedule after a reload at 06:00:30: next %v; want 06:00 kept", k[0].next)
 	}
-	d.cfg = parse(strings.Replace(scheduleYAML, "every: 6h", "every: 4h", 1))
+	d.cfgp.Store(parse(strings.Replace(scheduleYAML, "every: 6h", "every: 4h", 1)))
 	if k := d.holdSchedules(at("06:00:30"), s); len(k) != 1 || !k[0].next.Equal(at("08:00:00")) {
 		t.Errorf("changed schedule after a reload at 06:00:30: next %v; want 08:00", k[0].next)
 	}

@@ -69,7 +69,7 @@ var (
 // its metrics; with no remote_write section it returns nil, whose run
 // returns at once.
 func newRemoteWriter(d *Daemon) (*remoteWriter, error) {
-	cfg := d.cfg.RemoteWrite
+	cfg := d.conf().RemoteWrite
 	if cfg == nil {
 		return nil, nil
 	}

@@ -33,7 +33,7 @@ var ErrDataInUse = errors.New("the data directory is in use by a running daemon"
 // Night gathers the report of from–to from the running daemon's store,
 // alarm history and hold tests.
 func (d *Daemon) Night(from, to time.Time) (*report.Night, error) {
-	return gatherNight(d.cfg, d.store, from, to, d.clock.Now())
+	return gatherNight(d.conf(), d.store, from, to, d.clock.Now())
 }
 
 // WriteReport renders the report of from–to in format (see report.Formats).

@@ -22,9 +22,7 @@ import (
 // reportLoop writes the scheduled reports (report: every, at) on the
 // daemon's clock until ctx is done.
 func (d *Daemon) reportLoop(ctx context.Context) {
-	d.liveMu.RLock() // a reload may swap cfg already
-	rc := d.cfg.Report
-	d.liveMu.RUnlock()
+	rc := d.conf().Report
 	if !rc.Scheduled() {
 		return
 	}
@@ -85,12 +83,12 @@ func (d *Daemon) scheduledReport(at time.Time, rc *config.ReportConfig) (string,
 	if err != nil {
 		return "", err
 	}
-	path, err := writeReportFile(d.cfg.ReportDir(), n, rc.Format)
+	path, err := writeReportFile(d.conf().ReportDir(), n, rc.Format)
 	if err != nil {
 		return "", err
 	}
 	if rc.Keep > 0 {
-		if err := pruneReports(d.cfg.ReportDir(), rc.Keep); err != nil {
+		if err := pruneReports(d.conf().ReportDir(), rc.Keep); err != nil {
 			d.log.Warn("old reports not removed", "part", "report", "err", err)
 		}
 	}

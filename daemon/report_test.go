@@ -254,7 +254,8 @@ report: {at: "07:00", format: svg, notify: true, url: "https://bench.example.int
 		defer db.Close()
 		start := time.Now()
 		fillNight(t, db, start)
-		d := &Daemon{cfg: cfg, log: slog.New(slog.DiscardHandler), clock: bubble{}, store: db}
+		d := &Daemon{log: slog.New(slog.DiscardHandler), clock: bubble{}, store: db}
+		d.cfgp.Store(cfg)
 		ns, err := newNotifierSet(cfg, db.Bolt(), bubble{}, d.log)
 		if err != nil {
 			t.Fatal(err)

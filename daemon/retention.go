@@ -16,9 +16,7 @@ const retentionEvery = time.Hour
 // The store deletes in small transactions, so polling and flushing go on
 // meanwhile.
 func (d *Daemon) retentionLoop(ctx context.Context) {
-	d.liveMu.RLock() // a reload may swap cfg already
-	raw, minute, hour := d.cfg.Store.Retention.Tiers()
-	d.liveMu.RUnlock()
+	raw, minute, hour := d.conf().Store.Retention.Tiers()
 	if raw <= 0 && minute <= 0 && hour <= 0 {
 		return
 	}

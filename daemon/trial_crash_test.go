@@ -169,8 +169,8 @@ func (c committed) sound(t *testing.T, what string) {
 	for s, pts := range c.series {
 		for i := 1; i < len(pts); i++ {
 			if !pts[i].At.After(pts[i-1].At) {
-				t.Fatalf("%s: %s sample %d at %s does not follow sample %d at %s", what, s, i,
-					pts[i].At.Format(time.RFC3339Nano), i-1, pts[i-1].At.Format(time.RFC3339Nano))
+				t.Fatalf("%s: %s sample %d at %s (%+v) does not follow sample %d at %s (%+v)", what, s, i,
+					pts[i].At.Format(time.RFC3339Nano), pts[i], i-1, pts[i-1].At.Format(time.RFC3339Nano), pts[i-1])
 			}
 		}
 	}

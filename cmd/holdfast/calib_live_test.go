@@ -39,6 +39,12 @@ gauges:
     instrument: pirani
     kind: pressure
     digits: 6
+    # A quiet sensor, so that no point is refused as drifting by chance.
+    # Its pressure noise is noise·(1 + p/p_t) relative (p_t = 100 Pa):
+    # 0.025 % at 400 Pa, and its floor 0.05 % at 1 Pa; the drift's standard
+    # error over n samples is σ·√(12/n), under 0.06 % for n ≥ 10, so the
+    # 0.5 % limit lies 9 standard errors out (drift check: 3).
+    noise: 5e-5
     calibration: {use: active, reference_fluid: {name: bench oil, density: 870 kg/m3}}
 `
 

@@ -6,10 +6,12 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"io"
 	"log/slog"
 	"net/http"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"sync"
 	"testing"
@@ -192,6 +194,22 @@ func TestIdentifyKeepsWrongInstrumentOff(t *testing.T) {
 	}
 	if n != 1 {
 		t.Errorf("the failed identity is logged %d times while it stays the same, want once (per state change)", n)
+	}
+	// The failed polls are counted as a wrong instrument, not as a link fault.
+	resp, err := http.Get("http://" + d.Addr() + "/metrics")
+	if err != nil {
+		t.Fatal(err)
+	}
+	scrape, _ := io.ReadAll(resp.Body)
+	resp.Body.Close()
+	var wrong float64
+	for _, line := range strings.Split(string(scrape), "\n") {
+		if v, ok := strings.CutPrefix(line, `holdfast_poll_errors_total{gauge="lock-pirani",reason="wrong-instrument"} `); ok {
+			wrong, _ = strconv.ParseFloat(v, 64)
+		}
+	}
+	if wrong < 1 {
+		t.Errorf("holdfast_poll_errors_total{reason=\"wrong-instrument\"} = %g while the identity check fails, want ≥ 1", wrong)
 	}
 
 	stop()

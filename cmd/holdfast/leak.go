@@ -37,11 +37,18 @@ written set each reading's resolution.
   holdfast leak --rise chamber-b.csv --volume 30L --unit mbar
   holdfast leak --rise chamber-b.csv --volume 30L --unit mbar --leak-unit Torr*L/s --reach 1e-1mbar
   holdfast leak --rise chamber-b.csv --volume 0.03m3 --json     # header time_s,pressure_mbar
+  holdfast leak --rise chamber-b.csv --volume 30L --unit mbar --volume-uncertainty 5% --gauge-uncertainty 1%
+
+Without --gauge-uncertainty (the gauge's relative expanded uncertainty, k = 2,
+counted as a scale error) and --volume-uncertainty (the volume's, k = 2) the
+stated interval is the fit's scatter alone, and the notes say so.
 
 --json prints one object (rates in Pa·m³/s, pressures in Pa, times in s):
   classification, reason           what the rise shows, and why
   leak_rate_pa_m3_per_s            Q = V·a
-  leak_rate_uncertainty_pa_m3_per_s   its standard uncertainty (k = 1), from the fit's covariance
+  leak_rate_uncertainty_pa_m3_per_s   its standard uncertainty (k = 1): the fit's covariance,
+                                   with --gauge-uncertainty and --volume-uncertainty added
+  scale_relative_uncertainty, volume_relative_uncertainty   those two as taken in (k = 1)
   outgassing_rate_pa_m3_per_s      V·b/τ: the curved part at the start of the record (0 for a line)
   outgassing_rate_uncertainty_pa_m3_per_s
   leak_share                       a·T over the fitted rise p(T) − p(0), 0 to 1
@@ -71,6 +78,7 @@ specification and local codes. holdfast is never a safety interlock.`
 
 type leakFlags struct {
 	rise, volume, unit, leakUnit, reach string
+	gaugeU, volumeU                     string
 	keepStart, asJSON                   bool
 }
 
@@ -83,6 +91,8 @@ func cmdLeak(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	fs.StringVar(&f.unit, "unit", "", "pressure unit of the CSV's pressure column (required unless the header names it)")
 	fs.StringVar(&f.leakUnit, "leak-unit", "mbar*L/s", "throughput unit to print the leak rate in as well")
 	fs.StringVar(&f.reach, "reach", "", "also tell when the fitted rise reaches this pressure, e.g. 1e-1mbar")
+	fs.StringVar(&f.gaugeU, "gauge-uncertainty", "", "the gauge's relative expanded uncertainty (k = 2), e.g. 1%: enters the leak rate's")
+	fs.StringVar(&f.volumeU, "volume-uncertainty", "", "the volume's relative expanded uncertainty (k = 2), e.g. 5%: enters the leak rate's")
 	fs.BoolVar(&f.keepStart, "keep-start", false, "keep a falling start instead of trimming it")
 	fs.BoolVar(&f.asJSON, "json", false, "print JSON")
 	if err := fs.Parse(args); err != nil {
@@ -107,10 +117,14 @@ func cmdLeak(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	for i, v := range rec.Pressure {
 		p[i] = in.unit.ToSI(v)
 	}
-	opt := alerts.RiseOptions{Step: rec.ReadingStep(in.unit.ToSI(1)), KeepStart: f.keepStart}
+	opt := alerts.RiseOptions{Step: rec.ReadingStep(in.unit.ToSI(1)), KeepStart: f.keepStart,
+		ScaleUncertainty: in.gaugeU / alerts.CoverageK, VolumeUncertainty: in.volumeU / alerts.CoverageK}
 	res, err := alerts.AnalyzeRise(rec.Time, p, in.volume, opt)
 	if err != nil {
 		return fmt.Errorf("leak: %s: %w", f.rise, err)
+	}
+	if res.Classification != alerts.Inconclusive {
+		res.Notes = append(res.Notes, leakIntervalNote(in))
 	}
 	rep := newLeakReport(f.rise, res, in)
 	if f.asJSON {
@@ -127,6 +141,8 @@ func cmdLeak(ctx context.Context, args []string, stdout, stderr io.Writer) error
 // leakInputs are the parsed flags.
 type leakInputs struct {
 	volume         float64
+	gaugeU         float64 // relative expanded (k = 2); 0: not given
+	volumeU        float64
 	unit, leakUnit calib.Unit
 	reach          float64 // Pa; 0 when not asked
 }
@@ -154,7 +170,52 @@ func (f *leakFlags) inputs() (leakInputs, error) {
 			errs = append(errs, fmt.Errorf("--reach: %w", err))
 		}
 	}
+	for _, u := range []struct {
+		flag, text string
+		to         *float64
+	}{{"--gauge-uncertainty", f.gaugeU, &in.gaugeU}, {"--volume-uncertainty", f.volumeU, &in.volumeU}} {
+		if u.text == "" {
+			continue
+		}
+		if *u.to, err = parsePercent(u.text); err != nil {
+			errs = append(errs, fmt.Errorf("%s: %w", u.flag, err))
+		}
+	}
 	return in, errors.Join(errs...)
+}
+
+// parsePercent reads a relative uncertainty written as a percentage
+// ("5%") into a fraction, from 0 to under 1.
+func parsePercent(text string) (float64, error) {
+	num, ok := strings.CutSuffix(strings.TrimSpace(text), "%")
+	v, err := strconv.ParseFloat(strings.TrimSpace(num), 64)
+	if !ok || err != nil || !(v >= 0 && v < 100) {
+		return 0, fmt.Errorf("want a percentage from 0%% to under 100%% such as 5%%, got %q", text)
+	}
+	return v / 100, nil
+}
+
+// leakIntervalNote says what the stated interval takes in.
+func leakIntervalNote(in leakInputs) string {
+	var with, without []string
+	if in.gaugeU > 0 {
+		with = append(with, fmt.Sprintf("the gauge's scale (%.2g %% at k = 2)", 100*in.gaugeU))
+	} else {
+		without = append(without, "the gauge's accuracy (give --gauge-uncertainty)")
+	}
+	if in.volumeU > 0 {
+		with = append(with, fmt.Sprintf("the volume (%.2g %% at k = 2)", 100*in.volumeU))
+	} else {
+		without = append(without, "the volume's (give --volume-uncertainty)")
+	}
+	note := "the ± interval takes in the fit's scatter"
+	if len(with) > 0 {
+		note += ", " + strings.Join(with, " and ")
+	}
+	if len(without) > 0 {
+		note += "; it leaves out " + strings.Join(without, " and ")
+	}
+	return note
 }
 
 // riseUnit is the pressure unit of the file: the header's or --unit's;

@@ -216,3 +216,41 @@ func TestLeakCommandNegativeRateIsNoFinding(t *testing.T) {
 		t.Errorf("a falling record's text should say no leak found:\n%s", out)
 	}
 }
+
+// The gauge's and the volume's uncertainties widen the leak rate's, and the
+// notes say what the interval holds. On the load-lock record (Q =
+// 6.6667e-4 Pa·m³/s) a 1 % gauge and a 5 % volume (both k = 2) give, as
+// relative standard uncertainties 0.5 % and 2.5 %, u_rel = √(0.5² + 2.5²) %
+// = 2.5495 % alone, so u(Q) ≥ 0.025495 × 6.6667e-4 = 1.6997e-5 Pa·m³/s
+// (JCGM 100:2008, §5.1.6); the fit's own part only adds to it. (Q read
+// from 3-digit readings may differ from 6.6667e-4 by a part in 1000.)
+func TestLeakCommandUncertainties(t *testing.T) {
+	out, _, err := leakRun(t, "--rise", leakLoadlock, "--volume", "100L", "--unit", "mbar", "--json",
+		"--gauge-uncertainty", "1%", "--volume-uncertainty", "5%")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var r struct {
+		U      float64  `json:"leak_rate_uncertainty_pa_m3_per_s"`
+		Scale  float64  `json:"scale_relative_uncertainty"`
+		Volume float64  `json:"volume_relative_uncertainty"`
+		Notes  []string `json:"notes"`
+	}
+	if err := json.Unmarshal([]byte(out), &r); err != nil {
+		t.Fatal(err)
+	}
+	if r.U < 0.999*1.6997e-5 || r.U > 1.1*1.6997e-5 || r.Scale != 0.005 || r.Volume != 0.025 {
+		t.Errorf("u(Q) %.5g, scale %g, volume %g; want about 1.6997e-5 (not below), 0.005, 0.025", r.U, r.Scale, r.Volume)
+	}
+	if notes := strings.Join(r.Notes, "\n"); !strings.Contains(notes, "the gauge's scale (1 % at k = 2) and the volume (5 % at k = 2)") {
+		t.Errorf("notes do not say what the interval holds:\n%s", notes)
+	}
+	out, _, err = leakRun(t, "--rise", leakLoadlock, "--volume", "100L", "--unit", "mbar")
+	if err != nil || !strings.Contains(out, "leaves out the gauge's accuracy (give --gauge-uncertainty) and the volume's") {
+		t.Errorf("without them the text does not say what is left out (%v):\n%s", err, out)
+	}
+	if _, _, err := leakRun(t, "--rise", leakLoadlock, "--volume", "100L", "--unit", "mbar", "--volume-uncertainty", "0.05"); err == nil ||
+		!strings.Contains(err.Error(), "--volume-uncertainty: want a percentage") {
+		t.Errorf("a share without %%: %v, want refused", err)
+	}
+}

@@ -33,6 +33,10 @@ type Config struct {
 type ChamberConfig struct {
 	Name   string `yaml:"name"`
 	Volume Volume `yaml:"volume"` // m³; needed for leak rates (Q = V·dp/dt)
+	// VolumeUncertainty is the volume's relative expanded uncertainty
+	// (k = 2), written as a percentage ("5%"); 0 when not given. It enters
+	// every leak rate's uncertainty.
+	VolumeUncertainty Percent `yaml:"volume_uncertainty"`
 }
 
 // HTTPConfig says where the daemon serves metrics and its API.
@@ -169,6 +173,11 @@ type GaugeConfig struct {
 	Digits     int      `yaml:"digits"`     // significant digits the instrument prints
 	Where      string   `yaml:"where"`      // thermocouple: wall | ambient
 	Protect    Pressure `yaml:"protect"`    // ion: switches itself off above this; default 1e-1 Pa
+	// Noise is one standard deviation of the instrument's noise, in the
+	// simulator's terms: pirani, a fraction of its signal's gas term
+	// (default 2e-3); cdg, of full scale (1e-4); ion, of the reading
+	// (1e-2); thermocouple and rtd, kelvin (0.2). 0: the default.
+	Noise float64 `yaml:"noise"`
 }
 
 // Defaults for optional settings.

@@ -3,6 +3,7 @@ package config
 import (
 	"cmp"
 	"fmt"
+	"math"
 	"net"
 	"slices"
 	"strconv"
@@ -80,6 +81,8 @@ func check(cfg *Config, prior []Problem) []Problem {
 	v := &checker{cfg: cfg, probs: prior}
 	v.expect(cfg.Chamber.Name != "", "chamber.name", "missing; give the chamber a name, e.g. name: bakeout-3")
 	v.expect(cfg.Chamber.Volume > 0, "chamber.volume", "must be a positive volume such as 30 L, got %g m3", float64(cfg.Chamber.Volume))
+	v.expect(cfg.Chamber.VolumeUncertainty >= 0 && cfg.Chamber.VolumeUncertainty < 1, "chamber.volume_uncertainty",
+		"want the volume's relative expanded uncertainty (k = 2) from 0%% to under 100%%, such as 5%%, got %g%%", 100*float64(cfg.Chamber.VolumeUncertainty))
 	if cfg.HTTP.Listen == "" {
 		cfg.HTTP.Listen = DefaultListen
 	} else if _, port, err := net.SplitHostPort(cfg.HTTP.Listen); err != nil {
@@ -275,6 +278,9 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 		wantKind := map[string]string{"pirani": "pressure", "cdg": "pressure", "ion": "pressure", "thermocouple": "temperature", "rtd": "temperature"}[g.Instrument]
 		v.expect(wantKind == "" || g.Kind == wantKind, path+".kind", "a %s measures %s, got kind %q", g.Instrument, wantKind, g.Kind)
 		v.expect(g.Digits >= 0 && g.Digits <= 15, path+".digits", "want 1 to 15 significant digits, got %d", g.Digits)
+		v.expect(g.Noise >= 0 && !math.IsInf(g.Noise, 1), path+".noise", "want a standard deviation of 0 or more (0: the instrument's default), got %g", g.Noise)
+	} else {
+		v.expect(g.Noise == 0, path+".noise", "only a simulated instrument (driver: sim) takes noise; remove it")
 	}
 	v.expect(g.Driver != "sim" || g.Instrument != "rtd" || g.Probe != nil, path+".probe", "a simulated rtd reports ohms; say which element, e.g. probe: {rtd: pt100}")
 	v.calibration(name, g)

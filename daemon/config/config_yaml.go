@@ -2,6 +2,7 @@ package config
 
 import (
 	"fmt"
+	"math"
 	"reflect"
 	"regexp"
 	"slices"
@@ -46,6 +47,21 @@ func (q *Temperature) UnmarshalYAML(n *yaml.Node) error {
 
 // UnmarshalYAML parses a pumping speed with its unit.
 func (q *Speed) UnmarshalYAML(n *yaml.Node) error { return decodeQ(n, calib.Speed, (*float64)(q)) }
+
+// Percent is a share written as a percentage ("5%", "0.5 %"), held as a
+// fraction (0.05).
+type Percent float64
+
+// UnmarshalYAML parses a percentage.
+func (q *Percent) UnmarshalYAML(n *yaml.Node) error {
+	num, ok := strings.CutSuffix(strings.TrimSpace(n.Value), "%")
+	v, err := strconv.ParseFloat(strings.TrimSpace(num), 64)
+	if n.Kind != yaml.ScalarNode || !ok || err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return typeError(n, "want a percentage such as 5%%, got %q", n.Value)
+	}
+	*q = Percent(v / 100)
+	return nil
+}
 
 // UnmarshalYAML parses "1s", "250ms", "30 min" or "2d".
 func (d *Duration) UnmarshalYAML(n *yaml.Node) error {

@@ -35,8 +35,8 @@ const defaultTimeout = 200 * time.Millisecond
 // InstrumentConfig describes one simulated instrument on a chamber.
 //
 // Noise is one standard deviation of Gaussian noise, by kind: pirani, a
-// fraction of the gas term of the signal (default 2e-3), on top of a fixed
-// floor worth 0.02 Pa; cdg, a fraction of full scale (default 1e-4); ion, a
+// fraction of the gas term of the signal (default 2e-3), on top of a
+// floor worth 0.02 Pa at the default (scaled with an override); cdg, a fraction of full scale (default 1e-4); ion, a
 // fraction of the reading (default 1e-2); thermocouple, kelvin (default 0.2).
 type InstrumentConfig struct {
 	Name      string         // unique on its chamber; used in errors and as the fail/recover target

@@ -48,7 +48,10 @@ func newPirani(ic InstrumentConfig, v *checker) (sensor, calib.Transfer) {
 	if err := h.Validate(); err != nil {
 		v.expect(false, "heat_loss", "%v", err)
 	}
-	return pirani{h: h, rel: or(ic.Noise, piraniDefaultRel), floor: h.A * piraniFloorPa}, h
+	// A noise override scales the floor with it, so a quieter sensor is
+	// quieter at low pressure too.
+	rel := or(ic.Noise, piraniDefaultRel)
+	return pirani{h: h, rel: rel, floor: h.A * piraniFloorPa * rel / piraniDefaultRel}, h
 }
 
 func (s pirani) measure(st State, r *rand.Rand) (float64, drivers.Status) {
