@@ -39,7 +39,9 @@ func (e *Engine) Replace(alarms []*Alarm) error {
 	if err != nil {
 		return err
 	}
-	e.collectDirty() // the states of alarms about to go are kept in unsaved
+	if e.store != nil {
+		e.collectDirty() // the states of alarms about to go wait in unsaved to be stored
+	}
 	byGauge, byName := map[string][]*alarmState{}, make(map[string]*alarmState, len(alarms))
 	all := make([]*alarmState, 0, len(alarms))
 	for _, a := range alarms {
