@@ -67,7 +67,12 @@ func (d *Daemon) updateCombined(log *slog.Logger, vg *gauge) {
 	vg.live.blendMu.Lock()
 	defer vg.live.blendMu.Unlock()
 	c := d.blend(vg)
-	if prev := vg.view(c.At); prev.seen && !c.At.After(prev.last.At) {
+	// Members polled in the same slot answer within microseconds of each
+	// other, each re-blending: the first blend of a stored time (1 ms) is
+	// kept, made with the others' readings from their previous slot (at
+	// most an interval old), so the series has one sample per stored time.
+	res := d.store.Resolution()
+	if prev := vg.view(c.At); prev.seen && !c.At.Truncate(res).After(prev.last.At.Truncate(res)) {
 		return // a member's newer sample was blended already
 	}
 	d.store.Append(vg.name, store.Point{At: c.At, Raw: c.Raw, Value: c.Value, Quality: uint8(c.Quality)})

@@ -15,6 +15,8 @@ import (
 	"holdfast/daemon/store"
 	"holdfast/drivers"
 	"holdfast/drivers/sim"
+
+	"github.com/prometheus/client_golang/prometheus"
 )
 
 // downAfter is how many polls in a row must fail before a gauge is reported down.
@@ -121,16 +123,34 @@ func (d *Daemon) pollLink(ctx context.Context, stop <-chan struct{}, l *link) {
 		default:
 		}
 		g := l.gauges[i]
+		began := d.clock.Now()
 		d.poll(ctx, log, g)
 		d.progress.done()
-		iv := g.cfg.Interval.D()
-		next[i] = next[i].Add(iv)
-		if now := d.clock.Now(); next[i].Before(now) {
-			skipped := now.Sub(next[i])/iv + 1
-			next[i] = next[i].Add(skipped * iv)
-			d.met.skipped.WithLabelValues(g.name).Add(float64(skipped))
-		}
+		next[i] = nextSlot(next[i], began, d.clock.Now(), g.cfg.Interval.D(), d.met.skipped.WithLabelValues(g.name))
 	}
+}
+
+// nextSlot returns the slot after slot for a gauge polled every iv whose
+// poll began at began and ended at now. Slots already past are skipped,
+// and so is one that comes less than half an interval after the poll
+// began: a poll that started late (a stalled machine, a slow link) must
+// not be followed at once by the next, whose reading would fall within the
+// store's resolution of this one's and say nothing new. Each slot skipped
+// is counted.
+func nextSlot(slot, began, now time.Time, iv time.Duration, skipped prometheus.Counter) time.Time {
+	slot = slot.Add(iv)
+	n := 0
+	if slot.Before(now) {
+		k := now.Sub(slot)/iv + 1
+		slot, n = slot.Add(k*iv), int(k)
+	}
+	for slot.Sub(began) < iv/2 {
+		slot, n = slot.Add(iv), n+1
+	}
+	if n > 0 {
+		skipped.Add(float64(n))
+	}
+	return slot
 }
 
 // poll reads g once and passes the sample down the pipeline.

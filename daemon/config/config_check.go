@@ -256,6 +256,10 @@ func (v *checker) gauge(name string, g *GaugeConfig) {
 		g.Interval = Duration(DefaultInterval)
 	}
 	v.expect(g.Interval.D() >= minInterval, path+".interval", "must be at least %s, got %s", shortDuration(minInterval), shortDuration(g.Interval.D()))
+	if res := v.cfg.Store.Resolution.D(); res > 0 && g.Interval.D() >= minInterval && g.Interval.D() < 2*res {
+		v.problem(path+".interval", "%s is less than twice store.resolution (%s): two samples could be stored at one time; poll less often or keep finer times (resolution: 1ms)",
+			shortDuration(g.Interval.D()), shortDuration(res))
+	}
 	if g.Timeout == 0 {
 		g.Timeout = Duration(min(g.Interval.D(), 2*time.Second))
 	}

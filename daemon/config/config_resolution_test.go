@@ -8,7 +8,7 @@ import (
 
 func TestStoreResolutionIsChecked(t *testing.T) {
 	base := "chamber: {name: res, volume: 10 L}\nlinks:\n  sim: {simulator: {rough_pump: {speed: 2 m3/h}}}\n" +
-		"gauges:\n  p1: {link: sim, driver: sim, instrument: pirani, kind: pressure}\n"
+		"gauges:\n  p1: {link: sim, driver: sim, instrument: pirani, kind: pressure, interval: 2s}\n"
 	for _, c := range []struct {
 		res  string
 		want time.Duration // 0: refused

@@ -41,6 +41,9 @@ func checkPoint(series string, p Point) error {
 	return nil
 }
 
+// Resolution is the step sample times are cut to on Append.
+func (db *DB) Resolution() time.Duration { return db.res }
+
 // Append buffers one point for the next Flush. Its time is cut (towards
 // the past) to the store's resolution, Options.Resolution, 1 ms by
 // default: the part of a poll time below it is jitter, not information,
