@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"slices"
+	"strings"
 	"sync"
 	"time"
 
@@ -43,6 +44,7 @@ type Engine struct {
 	instance string           // the data file's instance id; prefixes dedupe keys
 	holdTest string           // id of the hold test running, if any; see ClaimHoldTest
 	shelf    ShelfLimits
+	isolated bool // what SetIsolated last said, for rise watches added by Replace
 }
 
 // ShelfLimits bound shelving: a shelf always ends. Default is how long a
@@ -57,7 +59,8 @@ type ShelfLimits struct {
 var DefaultShelfLimits = ShelfLimits{Default: 8 * time.Hour, Max: 24 * time.Hour}
 
 // SetShelfLimits sets how long shelving lasts by default and at most;
-// a zero field keeps DefaultShelfLimits' value. Call it before Attach.
+// a zero field keeps DefaultShelfLimits' value. It applies to shelving
+// asked for from then on: a shelf already given keeps its end.
 func (e *Engine) SetShelfLimits(l ShelfLimits) {
 	e.mu.Lock()
 	defer e.mu.Unlock()
@@ -119,11 +122,7 @@ func (e *Engine) Attach(st Store) ([]Event, error) {
 	for _, s := range saved {
 		if a := e.byName[s.Alarm]; a != nil {
 			a.s = s
-			if s.Shelved && s.ShelvedUntil.IsZero() {
-				// Shelved without an end by an older version: the shelf
-				// now ends at the longest allowed after it began.
-				a.s.ShelvedUntil, a.dirty = s.Since.Add(e.shelf.Max), true
-			}
+			e.endlessShelf(a)
 		}
 	}
 	evs, err := st.Undelivered()
@@ -235,12 +234,27 @@ func (e *Engine) commit(evs []Event) []Event {
 			states = append(states, s)
 		}
 	}
+	states = append(states, e.unsavedGone()...)
 	if e.saveErr = e.store.Save(states, trans); e.saveErr != nil {
 		e.waiting = e.boundWaiting(trans)
 		return slices.DeleteFunc(slices.Clone(evs), Event.Transition)
 	}
 	out := append(e.waiting, evs...)
 	e.unsaved, e.waiting = nil, nil
+	return out
+}
+
+// unsavedGone returns, by name, the unsaved states of alarms Replace
+// removed: stored all the same, so that an alarm configured again later
+// carries on from its last sequence number. The caller holds mu.
+func (e *Engine) unsavedGone() []Saved {
+	var out []Saved
+	for name, s := range e.unsaved {
+		if e.byName[name] == nil {
+			out = append(out, s)
+		}
+	}
+	slices.SortFunc(out, func(a, b Saved) int { return strings.Compare(a.Alarm, b.Alarm) })
 	return out
 }
 
@@ -326,6 +340,7 @@ var ErrShelfLimit = errors.New("shelving limit")
 func (e *Engine) SetIsolated(on bool) {
 	e.mu.Lock()
 	defer e.mu.Unlock()
+	e.isolated = on
 	for _, st := range e.all {
 		if rw, ok := st.a.Rule.(*RiseWatch); ok {
 			rw.SetIsolated(on)

@@ -20,14 +20,22 @@ type holdSchedule struct {
 // Times missed while the daemon was stopped are not made up: after a
 // restart the plant may be in any state (someone at work on it, power
 // coming back), and a valve moving at an unplanned time is the greater harm.
-func (d *Daemon) holdSchedules(now time.Time) []*holdSchedule {
+// After a reload, a schedule of was that is still configured the same on
+// the same gauge keeps its next time.
+func (d *Daemon) holdSchedules(now time.Time, was []*holdSchedule) []*holdSchedule {
 	var out []*holdSchedule
 	for _, a := range d.conf().Alarms {
 		if a.HoldTest == nil || a.HoldTest.Schedule == nil {
 			continue
 		}
 		s := a.HoldTest.Schedule.Schedule()
-		out = append(out, &holdSchedule{gauge: a.Gauge, cfg: a.HoldTest, sched: s, next: s.Next(now)})
+		h := &holdSchedule{gauge: a.Gauge, cfg: a.HoldTest, sched: s, next: s.Next(now)}
+		for _, o := range was {
+			if o.gauge == h.gauge && o.sched == h.sched {
+				h.next = o.next
+			}
+		}
+		out = append(out, h)
 	}
 	return out
 }

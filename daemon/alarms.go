@@ -48,7 +48,8 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 	}
 	d.abortHoldTests(log, st, "the daemon stopped during the test (a crash, a kill or a power cut); its record is incomplete", false)
 	close(d.alarmsReady)
-	scheds := d.holdSchedules(d.clock.Now())
+	schedCfg := d.conf()
+	scheds := d.holdSchedules(d.clock.Now(), nil)
 	var lastHealth time.Time
 	var saveErr error
 	var dropped uint64
@@ -73,6 +74,9 @@ func (d *Daemon) alarmLoop(ctx context.Context) {
 			d.repeats.Flush()
 		}
 		d.holdTests(ctx, log, st, now)
+		if cfg := d.conf(); cfg != schedCfg { // reloaded
+			schedCfg, scheds = cfg, d.holdSchedules(now, scheds)
+		}
 		d.runSchedules(log, scheds, now)
 		d.liveMu.RUnlock()
 		select {

@@ -13,17 +13,22 @@ import (
 func (d *Daemon) limits() []*alerts.Alarm {
 	var out []*alerts.Alarm
 	for _, a := range d.conf().Alarms {
-		al := &alerts.Alarm{Name: a.Name, Gauge: a.Gauge, Severity: alerts.Severity(a.Severity), Message: a.Message,
-			OnDelay: a.For.D(), OffDelay: a.ClearAfter.D(), Rule: d.rule(a)}
-		if a.Health != "" {
-			al.Gauge = "holdfast"
-		}
-		if c := a.Chatter; c != nil {
-			al.ChatterCount, al.ChatterWindow = c.Count, c.Window.D()
-		}
-		out = append(out, al)
+		out = append(out, d.configAlarm(a))
 	}
 	return append(out, d.bakeAlarms()...)
+}
+
+// configAlarm builds the engine's alarm for one configured alarm.
+func (d *Daemon) configAlarm(a *config.AlarmConfig) *alerts.Alarm {
+	al := &alerts.Alarm{Name: a.Name, Gauge: a.Gauge, Severity: alerts.Severity(a.Severity), Message: a.Message,
+		OnDelay: a.For.D(), OffDelay: a.ClearAfter.D(), Rule: d.rule(a)}
+	if a.Health != "" {
+		al.Gauge = "holdfast"
+	}
+	if c := a.Chatter; c != nil {
+		al.ChatterCount, al.ChatterWindow = c.Count, c.Window.D()
+	}
+	return al
 }
 
 func (d *Daemon) gaugeUnit(name string) calib.Unit {

@@ -54,8 +54,8 @@ type Options struct {
 }
 
 // conf returns the running config. A reload swaps in a new one whose
-// parts other than links and gauges are the same, so a caller may keep
-// the pointer for one piece of work.
+// parts other than links, gauges, alarms and shelving are the same, so a
+// caller may keep the pointer for one piece of work.
 func (d *Daemon) conf() *config.Config { return d.cfgp.Load() }
 
 // A Daemon polls every gauge of one config and serves what it reads.
@@ -69,7 +69,8 @@ type Daemon struct {
 	links       []*link
 	gauges      []*gauge // sorted by name
 	alarms      *alerts.Engine
-	bake        *baker // nil without a bake plan
+	alarmDefs   []*alerts.Alarm // what alarms runs, as built from cfg; a reload keeps the unchanged ones
+	bake        *baker          // nil without a bake plan
 	met         *metrics
 	ln          net.Listener
 	token       string // bearer token for changes; empty refuses them
@@ -88,9 +89,9 @@ type Daemon struct {
 	flushMu  sync.Mutex
 	flushErr error
 
-	// Reload (reload.go): Run swaps cfg, links and gauges under liveMu,
-	// which HTTP handlers and the alarm, report and systemd loops hold
-	// while they read them; pollers are stopped across the swap.
+	// Reload (reload.go): Run swaps cfgp, links, gauges and the engine's
+	// alarms under liveMu, which HTTP handlers and the daemon's loops hold
+	// while they read them; pollers are stopped across a swap of gauges.
 	file     string // the config file, read again by Reload
 	reloads  chan reloadRequest
 	reloadOK *reloadStatus
@@ -131,7 +132,8 @@ func New(cfg *config.Config, opt Options) (_ *Daemon, err error) {
 	for _, g := range d.gauges {
 		g.slack = pollSlack(d.clock)
 	}
-	d.alarms = alerts.NewEngine(d.limits())
+	d.alarmDefs = d.limits()
+	d.alarms = alerts.NewEngine(d.alarmDefs)
 	d.alarms.SetShelfLimits(alerts.ShelfLimits{Default: cfg.Shelving.Default.D(), Max: cfg.Shelving.Max.D()})
 	if d.token, err = config.ReadToken(cfg.HTTP.TokenPath()); err != nil {
 		return nil, err

@@ -13,10 +13,12 @@ import (
 	"holdfast/daemon/config"
 )
 
-// A reload applies links and gauges live; any other difference refuses the
-// whole reload (nothing is applied) with the keys that need a restart, so
-// the running daemon never mixes two configs. The alarm engine, its state
-// and the outbox are not rebuilt: alarms and notifiers cannot change live.
+// A reload applies links, gauges, alarms and shelving live; any other
+// difference refuses the whole reload (nothing is applied) with the keys
+// that need a restart, so the running daemon never mixes two configs. The
+// alarm engine is not rebuilt: it swaps its set of alarms, keeping every
+// alarm's state by name (reload_alarms.go). The outbox is not rebuilt:
+// notifiers cannot change live.
 
 // ReloadError is a reload that was refused: the old config keeps running.
 type ReloadError struct {
@@ -44,7 +46,9 @@ type reloadResult struct {
 // Reload re-reads the config file the daemon was started with, checks it
 // and applies it without a restart: a gauge added starts polling, one
 // removed stops (its stored samples stay), a changed link is reconnected
-// and an unchanged one keeps its connection and its gauges their schedule.
+// and an unchanged one keeps its connection and its gauges their schedule;
+// alarms added, removed or changed apply too, each keeping its state by
+// name (Engine.Replace), as do new shelving limits.
 // An invalid file, or a change that needs a restart, leaves the running
 // config as it was; the error is a *config.ConfigError (every problem with
 // its line) or a *ReloadError. Reload waits for Run to apply the change.
@@ -90,13 +94,10 @@ func (d *Daemon) reloadFailed(err error) {
 	d.log.Error("config not reloaded; the running config stays", "file", d.file, "err", err)
 }
 
-// liveParts are the parts of a config a reload changes on a running
-// daemon; restartKeys lists the changes outside them.
+// restartKeys lists the changes a running daemon cannot take: the
+// notifiers and every key outside links, gauges, alarms and shelving.
 func restartKeys(c config.Changes) []string {
-	keys := slices.Clone(c.Keys)
-	if !c.Alarms.Empty() {
-		keys = append(keys, "alarms")
-	}
+	keys := slices.DeleteFunc(slices.Clone(c.Keys), liveKey)
 	if !c.Notify.Empty() {
 		keys = append(keys, "notify")
 	}
@@ -119,21 +120,74 @@ func (d *Daemon) startPollers(ctx context.Context) *pollers {
 }
 
 // apply swaps cfg in for the running config, from Run's goroutine: it
-// builds the new links (reusing the connections of unchanged ones) and
-// gauges while the old pollers run, stops those between polls, swaps
-// under liveMu, closes the connections no longer used and starts the new
+// builds the new links (reusing the connections of unchanged ones),
+// gauges and alarms while the old pollers run, stops those between polls,
+// swaps under liveMu (the alarm engine's set with the gauges, both or
+// neither), closes the connections no longer used and starts the new
 // pollers. On any error the old config and its pollers keep running.
 func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*pollers, config.Changes, error) {
 	ch := config.Diff(d.conf(), cfg)
 	if keys := restartKeys(ch); len(keys) > 0 {
 		return old, ch, &ReloadError{Restart: keys}
 	}
-	if ch.Links.Empty() && ch.Gauges.Empty() {
+	defs := d.reloadAlarms(cfg, ch)
+	gauges := !ch.Links.Empty() || !ch.Gauges.Empty()
+	if !gauges && defs == nil && len(ch.Keys) == 0 {
 		return old, ch, nil
 	}
-	if id := d.runningHoldTest(); id != "" {
-		return old, ch, &ReloadError{Reason: "hold test " + id + " is running; reload after it ends"}
+	if err := d.holdTestRuns(gauges || defs != nil); err != nil {
+		return old, ch, err
 	}
+	var nd *Daemon
+	if gauges {
+		var err error
+		if nd, err = d.buildReloaded(cfg, ch); err != nil {
+			return old, ch, err
+		}
+		close(old.stop)
+		old.wg.Wait()
+	}
+
+	d.liveMu.Lock() // no hold test starts from here on
+	err := d.holdTestRuns(gauges || defs != nil)
+	if err == nil {
+		err = d.swapAlarms(cfg, defs)
+	}
+	if err != nil {
+		d.liveMu.Unlock()
+		if nd == nil {
+			return old, ch, err
+		}
+		if cerr := nd.closeNew(); cerr != nil {
+			d.log.Warn("closing the links of a refused reload", "err", cerr)
+		}
+		return d.startPollers(ctx), ch, err // the old links, still open, poll on
+	}
+	var oldLinks []*link
+	if nd != nil {
+		oldLinks = d.swapGauges(nd)
+	}
+	d.cfgp.Store(cfg)
+	d.liveMu.Unlock()
+	d.stopReminders(ch.Alarms.Removed)
+	if nd == nil {
+		return old, ch, nil
+	}
+
+	for _, l := range oldLinks {
+		if !nd.keeps(l.name) && l.close != nil {
+			if err := l.close(); err != nil {
+				d.log.Warn("closing link", "link", l.name, "err", err)
+			}
+		}
+	}
+	return d.startPollers(ctx), ch, nil
+}
+
+// buildReloaded builds the links and gauges of cfg, taking over the
+// running connections of the links that do not change and the drivers of
+// the gauges that do not change.
+func (d *Daemon) buildReloaded(cfg *config.Config, ch config.Changes) (*Daemon, error) {
 	nd := &Daemon{log: d.log, clock: d.clock, emit: d.emit, store: d.store, trace: d.trace,
 		reuse: map[string]*link{}, prev: map[string]*gauge{}}
 	nd.cfgp.Store(cfg)
@@ -157,12 +211,16 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 	}
 	if err != nil {
 		err = errors.Join(err, nd.closeNew())
-		return old, ch, &ReloadError{Reason: "new config not applied: " + err.Error()}
+		return nil, &ReloadError{Reason: "new config not applied: " + err.Error()}
 	}
-	close(old.stop)
-	old.wg.Wait()
+	return nd, nil
+}
 
-	d.liveMu.Lock()
+// swapGauges puts nd's links and gauges in place of the running ones,
+// carrying each kept gauge's last reading and schedule over, and returns
+// the links it replaced. The caller holds liveMu for writing and has
+// stopped the pollers.
+func (d *Daemon) swapGauges(nd *Daemon) []*link {
 	oldLinks, oldGauges := d.links, d.gauges
 	for _, g := range nd.gauges {
 		g.slack = pollSlack(d.clock)
@@ -175,19 +233,9 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 			og.mu.Unlock()
 		}
 	}
-	d.cfgp.Store(cfg)
 	d.links, d.gauges = nd.links, nd.gauges
 	d.met.gaugesChanged(oldGauges, d.gauges)
-	d.liveMu.Unlock()
-
-	for _, l := range oldLinks {
-		if !nd.keeps(l.name) && l.close != nil {
-			if err := l.close(); err != nil {
-				d.log.Warn("closing link", "link", l.name, "err", err)
-			}
-		}
-	}
-	return d.startPollers(ctx), ch, nil
+	return oldLinks
 }
 
 // closeNew closes the connections a failed reload had opened, never the
@@ -208,10 +256,14 @@ func (d *Daemon) keeps(name string) bool {
 	return d.reuse[name] != nil && slices.ContainsFunc(d.links, func(l *link) bool { return l.name == name })
 }
 
-// runningHoldTest is the id of a running hold test, or "": a reload waits
-// for it, since it may be driving a valve over a link.
-func (d *Daemon) runningHoldTest() string {
-	return d.alarms.RunningHoldTest()
+// holdTestRuns refuses a reload that changes links, gauges or alarms
+// (changes) while a hold test runs: it may be driving a valve over a link,
+// and it has suppressed the alarms it provokes.
+func (d *Daemon) holdTestRuns(changes bool) error {
+	if id := d.alarms.RunningHoldTest(); changes && id != "" {
+		return &ReloadError{Reason: "hold test " + id + " is running; reload after it ends"}
+	}
+	return nil
 }
 
 // reuseLink returns, for a reload, a link that takes over the open

@@ -38,12 +38,18 @@ const reloadToken = "a-reload-test-token-long-enough"
 // it at speed× the wall clock, and returns it with its config's path.
 func reloadDaemon(t *testing.T, speed float64) (*Daemon, string) {
 	t.Helper()
+	return reloadDaemonOn(t, speed, reloadBase)
+}
+
+// reloadDaemonOn is reloadDaemon on the config text base.
+func reloadDaemonOn(t *testing.T, speed float64, base string) (*Daemon, string) {
+	t.Helper()
 	dir := t.TempDir()
 	if err := os.WriteFile(filepath.Join(dir, "token"), []byte(reloadToken+"\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
 	path := filepath.Join(dir, "holdfast.yaml")
-	writeConfig(t, path, reloadBase)
+	writeConfig(t, path, base)
 	cfg, err := config.LoadConfig(path)
 	if err != nil {
 		t.Fatal(err)

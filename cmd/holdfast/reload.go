@@ -15,7 +15,7 @@ import (
 )
 
 func cmdReload(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("reload", "[flags]\n\nAsks the running daemon to read its config file again, check it and apply\nit without a restart (as kill -HUP does): gauges and links added, removed\nor changed. Prints what changed. A config with problems is not applied\n(they are printed as FILE:LINE: path: problem, exit 1); a change that\nneeds a restart (store, http, alarms, notify, ...) is refused whole and\nnames its keys. Needs the daemon's bearer token.", stderr)
+	fs := newFlags("reload", "[flags]\n\nAsks the running daemon to read its config file again, check it and apply\nit without a restart (as kill -HUP does): gauges, links and alarms added,\nremoved or changed (each alarm keeps its state), and shelving. Prints what\nchanged. A config with problems is not applied (they are printed as\nFILE:LINE: path: problem, exit 1); a change that needs a restart (store,\nhttp, notify, ...) is refused whole and names its keys. Needs the daemon's bearer token.", stderr)
 	c := addAPIFlags(fs)
 	if err := fs.Parse(args); err != nil {
 		return err
