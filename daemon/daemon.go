@@ -51,6 +51,11 @@ type Options struct {
 	// watching (the demo prints them): the log then leaves alarm events
 	// out, so that each prints once.
 	EventsShown bool
+	// Adjust, when set, is applied to every config a reload reads, as the
+	// caller applied it to the first: the demo points the store, the
+	// listener and the token at its own directory, so a reload of its
+	// scenario file does not read as a change of those.
+	Adjust func(*config.Config)
 }
 
 // conf returns the running config. A reload swaps in a new one whose
@@ -65,6 +70,7 @@ type Daemon struct {
 	clock       Clock
 	emit        func(Event)
 	eventsShown bool // alarm events are shown by emit, not logged
+	adjust      func(*config.Config)
 	store       *store.DB
 	links       []*link
 	gauges      []*gauge // sorted by name
@@ -106,7 +112,7 @@ func StorePath(dir string) string { return filepath.Join(dir, "holdfast.db") }
 // New builds a daemon: it opens the store and the links' drivers and binds
 // the HTTP listener, so that every startup problem is reported before Run.
 func New(cfg *config.Config, opt Options) (_ *Daemon, err error) {
-	d := &Daemon{log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, eventsShown: opt.EventsShown, alarmsReady: make(chan struct{}),
+	d := &Daemon{log: opt.Log, clock: opt.Clock, emit: opt.OnEvent, eventsShown: opt.EventsShown, adjust: opt.Adjust, alarmsReady: make(chan struct{}),
 		file: cfg.File, reloads: make(chan reloadRequest), reloadOK: &reloadStatus{ok: true, at: time.Now()}}
 	d.cfgp.Store(cfg)
 	if d.log == nil {

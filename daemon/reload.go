@@ -54,6 +54,9 @@ type reloadResult struct {
 // its line) or a *ReloadError. Reload waits for Run to apply the change.
 func (d *Daemon) Reload(ctx context.Context) (config.Changes, error) {
 	cfg, err := config.LoadConfig(d.file)
+	if err == nil && d.adjust != nil {
+		d.adjust(cfg)
+	}
 	if err == nil {
 		req := reloadRequest{cfg: cfg, reply: make(chan reloadResult, 1)}
 		select {

@@ -70,16 +70,18 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 		}
 	}
 	defer cleanup()
-	cfg.Store.Dir, cfg.HTTP.Listen = dir, *listen
 	// The demo makes its own token in its data directory with any config,
 	// so a config naming a token file that does not exist here still runs.
-	if cfg.HTTP.TokenFile, err = demoToken(dir); err != nil {
+	token, err := demoToken(dir)
+	if err != nil {
 		return err
 	}
+	adjust := func(c *config.Config) { c.Store.Dir, c.HTTP.Listen, c.HTTP.TokenFile = dir, *listen, token }
+	adjust(cfg)
 
 	start := time.Now()
 	clock := sim.NewClock(start, *speed)
-	d, err := daemon.New(cfg, daemon.Options{Log: log, Clock: clock, OnEvent: demoPrinter(stdout, start), EventsShown: true})
+	d, err := daemon.New(cfg, daemon.Options{Log: log, Clock: clock, OnEvent: demoPrinter(stdout, start), EventsShown: true, Adjust: adjust})
 	if err != nil {
 		if errors.Is(err, syscall.EADDRINUSE) {
 			return fmt.Errorf("%w (another holdfast running? try --listen 127.0.0.1:0)", err)

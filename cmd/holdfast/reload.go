@@ -12,6 +12,7 @@ import (
 	"syscall"
 
 	"holdfast/daemon"
+	"holdfast/daemon/config"
 )
 
 func cmdReload(ctx context.Context, args []string, stdout, stderr io.Writer) error {
@@ -31,8 +32,8 @@ func cmdReload(ctx context.Context, args []string, stdout, stderr io.Writer) err
 		fmt.Fprintf(stdout, "%s reloaded:\n%s\n", out.File, out.Changes)
 		return nil
 	}
-	for _, p := range out.Problems {
-		fmt.Fprintf(stderr, "%s:%d: %s: %s\n", out.File, p.Line, p.Path, p.Msg)
+	if len(out.Problems) > 0 { // FILE:LINE: path: problem, as check prints them
+		fmt.Fprintln(stderr, (&config.ConfigError{File: out.File, Problems: out.Problems}).Error())
 	}
 	fmt.Fprintf(stderr, "holdfast: not reloaded: %s\n", out.Error)
 	if out.Changes != "" && out.Changes != "no changes" && len(out.Problems) == 0 {
