@@ -15,8 +15,6 @@ import (
 	"holdfast/daemon/store"
 	"holdfast/drivers"
 	"holdfast/drivers/sim"
-
-	"github.com/prometheus/client_golang/prometheus"
 )
 
 // downAfter is how many polls in a row must fail before a gauge is reported down.
@@ -123,34 +121,16 @@ func (d *Daemon) pollLink(ctx context.Context, stop <-chan struct{}, l *link) {
 		default:
 		}
 		g := l.gauges[i]
-		began := d.clock.Now()
 		d.poll(ctx, log, g)
 		d.progress.done()
-		next[i] = nextSlot(next[i], began, d.clock.Now(), g.cfg.Interval.D(), d.met.skipped.WithLabelValues(g.name))
+		iv := g.cfg.Interval.D()
+		next[i] = next[i].Add(iv)
+		if now := d.clock.Now(); next[i].Before(now) {
+			skipped := now.Sub(next[i])/iv + 1
+			next[i] = next[i].Add(skipped * iv)
+			d.met.skipped.WithLabelValues(g.name).Add(float64(skipped))
+		}
 	}
-}
-
-// nextSlot returns the slot after slot for a gauge polled every iv whose
-// poll began at began and ended at now. Slots already past are skipped,
-// and so is one that comes less than half an interval after the poll
-// began: a poll that started late (a stalled machine, a slow link) must
-// not be followed at once by the next, whose reading would fall within the
-// store's resolution of this one's and say nothing new. Each slot skipped
-// is counted.
-func nextSlot(slot, began, now time.Time, iv time.Duration, skipped prometheus.Counter) time.Time {
-	slot = slot.Add(iv)
-	n := 0
-	if slot.Before(now) {
-		k := now.Sub(slot)/iv + 1
-		slot, n = slot.Add(k*iv), int(k)
-	}
-	for slot.Sub(began) < iv/2 {
-		slot, n = slot.Add(iv), n+1
-	}
-	if n > 0 {
-		skipped.Add(float64(n))
-	}
-	return slot
 }
 
 // poll reads g once and passes the sample down the pipeline.
@@ -200,6 +180,17 @@ func (d *Daemon) handle(ctx context.Context, log *slog.Logger, g *gauge, r drive
 		d.pollFailed(log, g, err)
 		return
 	}
+	if r.At.IsZero() {
+		r.At = d.clock.Now()
+	}
+	if res := d.store.Resolution(); !g.afterLast(r.At, res) {
+		// A poll right after a stalled one can read within the store's
+		// resolution of it: a second sample at one stored time says
+		// nothing new, and the series keeps one sample per time.
+		d.met.skipped.WithLabelValues(g.name).Inc()
+		log.Debug("reading within the store's resolution of the last one; not kept", "gauge", g.name, "at", r.At, "resolution", res)
+		return
+	}
 	s, calID := d.sample(g, r)
 	d.store.Append(g.name, store.Point{At: s.At, Raw: s.Raw, Value: s.Value, Quality: uint8(s.Quality), Calibration: calID})
 	d.record(log, g, s)
@@ -207,6 +198,14 @@ func (d *Daemon) handle(ctx context.Context, log *slog.Logger, g *gauge, r drive
 		d.alarmEvent(log, ev)
 	}
 	d.combineAfter(log, g, s)
+}
+
+// afterLast reports whether a reading at t falls at a later stored time
+// (t cut to res) than the gauge's last sample.
+func (g *gauge) afterLast(t time.Time, res time.Duration) bool {
+	g.mu.Lock()
+	defer g.mu.Unlock()
+	return !g.seen || t.Truncate(res).After(g.last.At.Truncate(res))
 }
 
 // setTransfer makes t (calibration id, or 0 for the instrument's own
