@@ -67,7 +67,7 @@ func (d *Daemon) gaugeScale(gauge string, ps []float64) (float64, string) {
 		worst = max(worst, U)
 	}
 	if worst/k >= 0.5 {
-		return 0, fmt.Sprintf("calibration %d states %.3g %% at these pressures, too coarse to carry into a rate", id, 100*worst)
+		return 0, fmt.Sprintf("calibration %d states %.3g %% at k = %g at these pressures, too coarse to carry into a rate", id, 100*worst, k)
 	}
 	return worst / k, ""
 }

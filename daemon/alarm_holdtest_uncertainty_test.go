@@ -51,7 +51,7 @@ func TestRiseUncertaintiesNameTheirSources(t *testing.T) {
 		{[]float64{1e-3, 2e-3}, 0.006, "the gauge's scale (its calibration: 1.2 % at k = 2)"},
 		{[]float64{0.5, 2}, 0.015, "the gauge's scale (its calibration: 3 % at k = 2)"},
 		{[]float64{1e-5, 1e-3}, 0, "calibration 7 states no uncertainty at 1e-05 Pa"},
-		{[]float64{20, 30}, 0, "calibration 7 states 150 % at these pressures, too coarse"},
+		{[]float64{20, 30}, 0, "calibration 7 states 150 % at k = 2 at these pressures, too coarse"},
 	} {
 		opt, note := d.riseUncertainties("ion", c.ps)
 		if math.Abs(opt.ScaleUncertainty-c.scale) > 1e-12 || !strings.Contains(note, c.says) {

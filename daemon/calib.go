@@ -27,6 +27,12 @@ type gaugeLive struct {
 	// blendMu serialises a combined gauge's updates: its members may sit
 	// on different links, polled by different goroutines.
 	blendMu sync.Mutex
+	// pending is a combined gauge's newest blend, not yet stored: members
+	// polled in one slot answer within the store's resolution of each
+	// other, each re-blending, and only the last blend of a stored time
+	// (made with every member's fresh reading) is stored; it is appended
+	// once a blend of a later time comes, or by flushBlends. Under blendMu.
+	pending *calib.Sample
 }
 
 // liveState returns g's live state, creating it (with g's current transfer

@@ -17,8 +17,9 @@ import (
 // treat it like any other; its samples are stored under its own name.
 func (d *Daemon) buildCombined() error {
 	var errs []error
-	for _, name := range sortedKeys(d.conf().Gauges) {
-		gc := d.conf().Gauges[name]
+	cfg := d.conf()
+	for _, name := range sortedKeys(cfg.Gauges) {
+		gc := cfg.Gauges[name]
 		if len(gc.Combine) == 0 {
 			continue
 		}
@@ -67,18 +68,37 @@ func (d *Daemon) updateCombined(log *slog.Logger, vg *gauge) {
 	vg.live.blendMu.Lock()
 	defer vg.live.blendMu.Unlock()
 	c := d.blend(vg)
-	// Members polled in the same slot answer within microseconds of each
-	// other, each re-blending: the first blend of a stored time (1 ms) is
-	// kept, made with the others' readings from their previous slot (at
-	// most an interval old), so the series has one sample per stored time.
-	res := d.store.Resolution()
-	if prev := vg.view(c.At); prev.seen && !c.At.Truncate(res).After(prev.last.At.Truncate(res)) {
+	if prev := vg.view(c.At); prev.seen && !c.At.After(prev.last.At) {
 		return // a member's newer sample was blended already
 	}
-	d.store.Append(vg.name, store.Point{At: c.At, Raw: c.Raw, Value: c.Value, Quality: uint8(c.Quality)})
+	res := d.store.Resolution()
+	if p := vg.live.pending; p != nil && c.At.Truncate(res).After(p.At.Truncate(res)) {
+		d.store.Append(vg.name, blendPoint(*p))
+	}
+	vg.live.pending = &c // a later blend of the same stored time replaces it
 	d.record(log, vg, c)
 	for _, ev := range d.alarms.Observe(vg.name, c) {
 		d.alarmEvent(log, ev)
+	}
+}
+
+func blendPoint(c calib.Sample) store.Point {
+	return store.Point{At: c.At, Raw: c.Raw, Value: c.Value, Quality: uint8(c.Quality)}
+}
+
+// flushBlends stores every combined gauge's pending blend: at the end of
+// Run, and for the gauges a reload replaces.
+func flushBlends(db *store.DB, gauges []*gauge) {
+	for _, vg := range gauges {
+		if vg.live == nil || len(vg.live.members) == 0 {
+			continue
+		}
+		vg.live.blendMu.Lock()
+		if p := vg.live.pending; p != nil {
+			db.Append(vg.name, blendPoint(*p))
+			vg.live.pending = nil
+		}
+		vg.live.blendMu.Unlock()
 	}
 }
 

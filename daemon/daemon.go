@@ -235,6 +235,7 @@ func (d *Daemon) Run(parent context.Context) error {
 	wg.Wait()
 	polling.wg.Wait()
 	handlers.Wait() // a reprocess or hold-test request finishes before the store closes
+	flushBlends(d.store, d.gauges)
 	err := context.Cause(ctx)
 	if parent.Err() != nil {
 		err = nil // asked to stop, or the caller's time is up

@@ -25,7 +25,7 @@ func newMetrics(d *Daemon) *metrics {
 			Name: "holdfast_poll_errors_total", Help: "Polls that got no usable answer, per gauge and reason (no-reply, bad-reply, link).",
 		}, []string{"gauge", "reason"}),
 		skipped: prometheus.NewCounterVec(prometheus.CounterOpts{
-			Name: "holdfast_polls_skipped_total", Help: "Scheduled polls skipped because the link was busy past their time.",
+			Name: "holdfast_polls_skipped_total", Help: "Scheduled polls skipped because the link was busy past their time, and readings not kept because they fell within the store's resolution of the gauge's last sample (a poll right after a stalled one).",
 		}, []string{"gauge"}),
 	}
 	for _, g := range d.gauges {

@@ -6,6 +6,8 @@ import (
 	"testing"
 	"time"
 
+	"github.com/prometheus/client_golang/prometheus/testutil"
+
 	"holdfast/daemon/store"
 	"holdfast/drivers"
 )
@@ -36,6 +38,9 @@ func TestReadingAtAStoredTimeAlreadyTaken(t *testing.T) {
 		got = append(got, p.At)
 		return true
 	})
+	if n := testutil.ToFloat64(d.met.skipped.WithLabelValues("pirani")); n != 2 {
+		t.Errorf("holdfast_polls_skipped_total = %g, want the 2 readings not kept", n)
+	}
 	if len(got) != 2 || !got[0].Equal(t0) || !got[1].Equal(t0.Add(time.Millisecond)) {
 		t.Errorf("stored %v; want %s and %s", got, t0.Format(time.RFC3339Nano), t0.Add(time.Millisecond).Format(time.RFC3339Nano))
 	}

@@ -168,6 +168,7 @@ func (d *Daemon) apply(ctx context.Context, old *pollers, cfg *config.Config) (*
 	}
 	var oldLinks []*link
 	if nd != nil {
+		flushBlends(d.store, d.gauges) // the old combined gauges' last blends; their pollers have stopped
 		oldLinks = d.swapGauges(nd)
 	}
 	d.cfgp.Store(cfg)
