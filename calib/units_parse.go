@@ -223,3 +223,15 @@ func secondsToDuration(sec float64, s string) (time.Duration, error) {
 	}
 	return time.Duration(ns), nil
 }
+
+// ParsePercent reads a share written as a percentage ("5%", "0.5 %") as a
+// fraction (0.05). It reports false for text without the % sign, or whose
+// number does not read or is not finite; the caller checks the range.
+func ParsePercent(s string) (float64, bool) {
+	num, ok := strings.CutSuffix(strings.TrimSpace(s), "%")
+	v, err := strconv.ParseFloat(strings.TrimSpace(num), 64)
+	if !ok || err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, false
+	}
+	return v / 100, true
+}

@@ -168,3 +168,21 @@ func BenchmarkParse(b *testing.B) {
 		}
 	}
 }
+
+// A percentage reads as a fraction: 5 % is 5/100 (NIST SP 811, §7.10.2:
+// the symbol % stands for the number 0.01).
+func TestParsePercent(t *testing.T) {
+	for _, c := range []struct {
+		in   string
+		want float64
+		ok   bool
+	}{
+		{"5%", 0.05, true}, {" 0.5 % ", 0.005, true}, {"100%", 1, true}, {"-2%", -0.02, true},
+		{"5", 0, false}, {"%", 0, false}, {"five%", 0, false}, {"NaN%", 0, false}, {"Inf%", 0, false},
+	} {
+		got, ok := ParsePercent(c.in)
+		if ok != c.ok || math.Abs(got-c.want) > 1e-15 {
+			t.Errorf("ParsePercent(%q) = %g, %v; want %g, %v", c.in, got, ok, c.want, c.ok)
+		}
+	}
+}

@@ -187,12 +187,11 @@ func (f *leakFlags) inputs() (leakInputs, error) {
 // parsePercent reads a relative uncertainty written as a percentage
 // ("5%") into a fraction, from 0 to under 1.
 func parsePercent(text string) (float64, error) {
-	num, ok := strings.CutSuffix(strings.TrimSpace(text), "%")
-	v, err := strconv.ParseFloat(strings.TrimSpace(num), 64)
-	if !ok || err != nil || !(v >= 0 && v < 100) {
+	v, ok := calib.ParsePercent(text)
+	if !ok || !(v >= 0 && v < 1) {
 		return 0, fmt.Errorf("want a percentage from 0%% to under 100%% such as 5%%, got %q", text)
 	}
-	return v / 100, nil
+	return v, nil
 }
 
 // leakIntervalNote says what the stated interval takes in.

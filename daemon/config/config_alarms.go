@@ -2,7 +2,6 @@ package config
 
 import (
 	"slices"
-	"strconv"
 	"strings"
 
 	"holdfast/alerts"
@@ -180,13 +179,13 @@ func (v *checker) deadband(path string, a *AlarmConfig, dim calib.Dimension) {
 	if !t.Set {
 		return
 	}
-	if s, ok := strings.CutSuffix(strings.TrimSpace(t.Value), "%"); ok {
-		f, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
-		if err != nil || !(f >= 0 && f < 100) {
+	if strings.HasSuffix(strings.TrimSpace(t.Value), "%") {
+		f, ok := calib.ParsePercent(t.Value)
+		if !ok || !(f >= 0 && f < 1) {
 			v.problem(path+".deadband", "want a percentage from 0 to 100 such as 5%%, got %q", t.Value)
 			return
 		}
-		a.Resolved.Deadband, a.Resolved.DeadbandRel = f/100, true
+		a.Resolved.Deadband, a.Resolved.DeadbandRel = f, true
 		return
 	}
 	db, ok := v.difference(path+".deadband", t, dim)
@@ -229,12 +228,11 @@ func (v *checker) health(path string, a *AlarmConfig) {
 			a.Resolved.Below = 0.05
 			return
 		}
-		s, ok := strings.CutSuffix(strings.TrimSpace(a.Below.Value), "%")
-		f, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
-		if !ok || err != nil || !(f > 0 && f < 100) {
+		f, ok := calib.ParsePercent(a.Below.Value)
+		if !ok || !(f > 0 && f < 1) {
 			v.problem(path+".below", "want the free share of the data disk as a percentage such as 5%%, got %q", a.Below.Value)
 		}
-		a.Resolved.Below = f / 100
+		a.Resolved.Below = f
 	case "store_writes", "notify_refused":
 		v.expect(!a.Below.Set && !a.Above.Set, path, "%s takes no limit", a.Health)
 	default:

@@ -2,7 +2,6 @@ package config
 
 import (
 	"fmt"
-	"math"
 	"reflect"
 	"regexp"
 	"slices"
@@ -54,12 +53,11 @@ type Percent float64
 
 // UnmarshalYAML parses a percentage.
 func (q *Percent) UnmarshalYAML(n *yaml.Node) error {
-	num, ok := strings.CutSuffix(strings.TrimSpace(n.Value), "%")
-	v, err := strconv.ParseFloat(strings.TrimSpace(num), 64)
-	if n.Kind != yaml.ScalarNode || !ok || err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+	v, ok := calib.ParsePercent(n.Value)
+	if n.Kind != yaml.ScalarNode || !ok {
 		return typeError(n, "want a percentage such as 5%%, got %q", n.Value)
 	}
-	*q = Percent(v / 100)
+	*q = Percent(v)
 	return nil
 }
 
