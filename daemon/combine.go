@@ -72,7 +72,7 @@ func (d *Daemon) updateCombined(log *slog.Logger, vg *gauge) {
 		return // a member's newer sample was blended already
 	}
 	res := d.store.Resolution()
-	if p := vg.live.pending; p != nil && c.At.Truncate(res).After(p.At.Truncate(res)) {
+	if p := vg.live.pending; p != nil && laterStored(c.At, p.At, res) {
 		d.store.Append(vg.name, blendPoint(*p))
 	}
 	vg.live.pending = &c // a later blend of the same stored time replaces it

@@ -201,11 +201,17 @@ func (d *Daemon) handle(ctx context.Context, log *slog.Logger, g *gauge, r drive
 }
 
 // afterLast reports whether a reading at t falls at a later stored time
-// (t cut to res) than the gauge's last sample.
+// than the gauge's last sample.
 func (g *gauge) afterLast(t time.Time, res time.Duration) bool {
 	g.mu.Lock()
 	defer g.mu.Unlock()
-	return !g.seen || t.Truncate(res).After(g.last.At.Truncate(res))
+	return !g.seen || laterStored(t, g.last.At, res)
+}
+
+// laterStored reports whether t is stored at a later time than than: the
+// store cuts both to res.
+func laterStored(t, than time.Time, res time.Duration) bool {
+	return t.Truncate(res).After(than.Truncate(res))
 }
 
 // setTransfer makes t (calibration id, or 0 for the instrument's own
